@@ -1,0 +1,311 @@
+use super::{Aabb, Edge, Vec2, cross};
+
+/// The most vertices one outline may have (a notched light guide with 10 000 notches has
+/// about 30 000).
+pub const MAX_VERTICES: usize = 200_000;
+
+/// A closed outline: vertices joined in order by straight or arc edges, the last vertex back
+/// to the first. `bulges[i]` belongs to the edge from vertex `i` to vertex `i + 1`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Outline {
+    pub vertices: Vec<Vec2>,
+    pub bulges: Vec<f64>,
+}
+
+/// What makes an outline unusable.
+#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+pub enum OutlineError {
+    #[error("an outline needs at least 2 vertices (with an arc) or 3, it has {0}")]
+    TooFewVertices(usize),
+    #[error("an outline may have at most {MAX_VERTICES} vertices, it has {0}")]
+    TooManyVertices(usize),
+    #[error("vertex {0} is not a finite number")]
+    NotFinite(usize),
+    #[error("there are {vertices} vertices but {bulges} bulges; give one bulge per edge or none")]
+    BulgeCount { vertices: usize, bulges: usize },
+    #[error("the outline encloses no area")]
+    ZeroArea,
+    #[error("edges {0} and {1} cross each other near ({2:.4}, {3:.4}) mm")]
+    SelfIntersecting(usize, usize, f64, f64),
+}
+
+impl Outline {
+    /// An outline of straight edges.
+    pub fn polygon(vertices: Vec<Vec2>) -> Self {
+        let bulges = vec![0.0; vertices.len()];
+        Self { vertices, bulges }
+    }
+
+    pub fn len(&self) -> usize {
+        self.vertices.len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.vertices.is_empty()
+    }
+
+    /// Edge `i`, from vertex `i` to vertex `i + 1` (wrapping).
+    pub fn edge(&self, i: usize) -> Edge {
+        let n = self.vertices.len();
+        Edge {
+            a: self.vertices[i],
+            b: self.vertices[(i + 1) % n],
+            bulge: self.bulges.get(i).copied().unwrap_or(0.0),
+        }
+    }
+
+    pub fn edges(&self) -> impl Iterator<Item = Edge> + '_ {
+        (0..self.vertices.len()).map(|i| self.edge(i))
+    }
+
+    /// Signed area, positive for a counter-clockwise outline, arcs included.
+    pub fn signed_area(&self) -> f64 {
+        let n = self.vertices.len();
+        let mut a = 0.0;
+        for i in 0..n {
+            let p = self.vertices[i];
+            let q = self.vertices[(i + 1) % n];
+            a += 0.5 * cross(p, q);
+        }
+        a + self.edges().map(|e| e.segment_area()).sum::<f64>()
+    }
+
+    /// +1 for a counter-clockwise outline, −1 for clockwise. The outward normal of every edge
+    /// is its right normal times this sign.
+    pub fn orientation(&self) -> f64 {
+        if self.signed_area() >= 0.0 { 1.0 } else { -1.0 }
+    }
+
+    /// Winding number of the outline around `p` (arcs included). Points exactly on an edge
+    /// may count either way.
+    pub fn winding(&self, p: Vec2) -> i32 {
+        let n = self.vertices.len();
+        let mut w = 0;
+        for i in 0..n {
+            let a = self.vertices[i];
+            let b = self.vertices[(i + 1) % n];
+            if a.y <= p.y {
+                if b.y > p.y && cross(b - a, p - a) > 0.0 {
+                    w += 1;
+                }
+            } else if b.y <= p.y && cross(b - a, p - a) < 0.0 {
+                w -= 1;
+            }
+        }
+        w + self.edges().map(|e| e.segment_winding(p)).sum::<i32>()
+    }
+
+    /// Whether `p` is inside the outline (non-zero winding).
+    pub fn contains(&self, p: Vec2) -> bool {
+        self.winding(p) != 0
+    }
+
+    pub fn aabb(&self) -> Aabb {
+        self.edges().fold(Aabb::EMPTY, |bb, e| bb.union(&e.aabb()))
+    }
+
+    /// Total length of the edges.
+    pub fn perimeter(&self) -> f64 {
+        self.edges().map(|e| e.length()).sum()
+    }
+
+    /// A point strictly inside the outline, found by casting a horizontal line through the
+    /// middle of the bounding box (and a few other heights) and taking the midpoint of the
+    /// widest inside interval.
+    pub fn interior_point(&self) -> Option<Vec2> {
+        let bb = self.aabb();
+        if bb.is_empty() {
+            return None;
+        }
+        let mut best: Option<(f64, Vec2)> = None;
+        for frac in [0.5, 0.37, 0.63, 0.25, 0.75, 0.11, 0.89, 0.03, 0.97] {
+            let y = bb.min.y + (bb.max.y - bb.min.y) * frac;
+            let origin = Vec2::new(bb.min.x - 1.0 - bb.extent(), y);
+            let dir = Vec2::new(1.0, 0.0);
+            let mut ts: Vec<f64> = self
+                .edges()
+                .flat_map(|e| {
+                    let mut v = Vec::new();
+                    let mut t0 = 0.0;
+                    while let Some(h) = e.cast(origin, dir, t0, f64::INFINITY) {
+                        v.push(h.t);
+                        t0 = h.t;
+                        if v.len() > 2 {
+                            break;
+                        }
+                    }
+                    v
+                })
+                .collect();
+            ts.sort_by(f64::total_cmp);
+            for w in ts.windows(2) {
+                let width = w[1] - w[0];
+                if width <= 0.0 {
+                    continue;
+                }
+                let p = origin + dir * (0.5 * (w[0] + w[1]));
+                if self.contains(p) && best.is_none_or(|(bw, _)| width > bw) {
+                    best = Some((width, p));
+                }
+            }
+            if best.is_some_and(|(bw, _)| bw > 1e-3 * bb.extent()) {
+                break;
+            }
+        }
+        best.map(|(_, p)| p)
+    }
+
+    /// Checks that the outline is usable: enough finite vertices, matching bulges, non-zero
+    /// area and no crossing edges (arcs are checked as fine polylines).
+    pub fn validate(&self) -> Result<(), OutlineError> {
+        let n = self.vertices.len();
+        if n > MAX_VERTICES {
+            return Err(OutlineError::TooManyVertices(n));
+        }
+        if self.bulges.len() != n {
+            return Err(OutlineError::BulgeCount {
+                vertices: n,
+                bulges: self.bulges.len(),
+            });
+        }
+        let has_arc = self.bulges.iter().any(|b| b.abs() > 1e-12);
+        if n < 2 || (n < 3 && !has_arc) {
+            return Err(OutlineError::TooFewVertices(n));
+        }
+        for (i, v) in self.vertices.iter().enumerate() {
+            if !super::is_finite(*v) || !self.bulges[i].is_finite() {
+                return Err(OutlineError::NotFinite(i));
+            }
+        }
+        let area = self.signed_area();
+        let bb = self.aabb();
+        if area.abs() <= 1e-12 * bb.extent().powi(2).max(1e-300) || !area.is_finite() {
+            return Err(OutlineError::ZeroArea);
+        }
+        if let Some((i, j, p)) = self.first_crossing() {
+            return Err(OutlineError::SelfIntersecting(i, j, p.x, p.y));
+        }
+        Ok(())
+    }
+
+    /// The first pair of non-adjacent edges that cross, with the crossing point. Arcs are
+    /// replaced by polylines with a point every 2°.
+    fn first_crossing(&self) -> Option<(usize, usize, Vec2)> {
+        // Pieces: (edge index, a, b).
+        let mut pieces: Vec<(usize, Vec2, Vec2)> = Vec::new();
+        for (i, e) in self.edges().enumerate() {
+            let pts = e.polyline(2f64.to_radians());
+            for w in pts.windows(2) {
+                pieces.push((i, w[0], w[1]));
+            }
+        }
+        let n = self.vertices.len();
+        let extent = self.aabb().extent();
+        let tol = 1e-9 * extent;
+        // Sweep over x: sort by min x and compare only overlapping pieces.
+        let mut order: Vec<usize> = (0..pieces.len()).collect();
+        let minx = |k: usize| pieces[k].1.x.min(pieces[k].2.x);
+        let maxx = |k: usize| pieces[k].1.x.max(pieces[k].2.x);
+        order.sort_by(|&a, &b| minx(a).total_cmp(&minx(b)));
+        let mut active: Vec<usize> = Vec::new();
+        for &k in &order {
+            let x0 = minx(k);
+            active.retain(|&m| maxx(m) >= x0 - tol);
+            for &m in &active {
+                let (ei, a1, b1) = pieces[k];
+                let (ej, a2, b2) = pieces[m];
+                let adjacent = ei == ej || (ei + 1) % n == ej || (ej + 1) % n == ei;
+                if let Some(p) = segments_cross(a1, b1, a2, b2, tol, adjacent) {
+                    return Some((ei.min(ej), ei.max(ej), p));
+                }
+            }
+            active.push(k);
+        }
+        None
+    }
+}
+
+/// Whether two segments cross. For pieces of the same or adjacent edges only a proper
+/// crossing counts (shared end points are expected); otherwise touching counts too.
+fn segments_cross(a1: Vec2, b1: Vec2, a2: Vec2, b2: Vec2, tol: f64, adjacent: bool) -> Option<Vec2> {
+    let d1 = b1 - a1;
+    let d2 = b2 - a2;
+    let denom = cross(d1, d2);
+    let len1 = d1.norm();
+    let len2 = d2.norm();
+    if len1 <= tol || len2 <= tol {
+        return None;
+    }
+    if denom.abs() <= 1e-12 * len1 * len2 {
+        // Parallel: overlapping collinear pieces of non-adjacent edges are a fault.
+        if adjacent || cross(d1, a2 - a1).abs() > tol * len1 {
+            return None;
+        }
+        let u = d1 / len1;
+        let (s0, s1) = ((a2 - a1).dot(&u), (b2 - a1).dot(&u));
+        let (lo, hi) = (s0.min(s1), s0.max(s1));
+        if hi > tol && lo < len1 - tol {
+            return Some(a1 + u * lo.max(0.0));
+        }
+        return None;
+    }
+    let s = cross(a2 - a1, d2) / denom;
+    let t = cross(a2 - a1, d1) / denom;
+    let (e1, e2) = (tol / len1, tol / len2);
+    let inside = if adjacent {
+        s > e1 && s < 1.0 - e1 && t > e2 && t < 1.0 - e2
+    } else {
+        s >= -e1 && s <= 1.0 + e1 && t >= -e2 && t <= 1.0 + e2
+    };
+    inside.then(|| a1 + d1 * s)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn square() -> Outline {
+        Outline::polygon(vec![Vec2::new(0.0, 0.0), Vec2::new(2.0, 0.0), Vec2::new(2.0, 2.0), Vec2::new(0.0, 2.0)])
+    }
+
+    #[test]
+    fn area_and_containment_of_a_square() {
+        let s = square();
+        assert!((s.signed_area() - 4.0).abs() < 1e-12);
+        assert!(s.contains(Vec2::new(1.0, 1.0)));
+        assert!(!s.contains(Vec2::new(3.0, 1.0)));
+        assert!(s.validate().is_ok());
+    }
+
+    #[test]
+    fn circle_from_two_half_arcs() {
+        // Two half circles of radius 1 (bulge 1 each, counter-clockwise): area π.
+        let c = Outline {
+            vertices: vec![Vec2::new(-1.0, 0.0), Vec2::new(1.0, 0.0)],
+            bulges: vec![1.0, 1.0],
+        };
+        assert!((c.signed_area() - std::f64::consts::PI).abs() < 1e-12);
+        assert!(c.contains(Vec2::new(0.0, 0.9)));
+        assert!(c.contains(Vec2::new(0.0, -0.9)));
+        assert!(!c.contains(Vec2::new(0.8, 0.8)));
+        assert!(c.validate().is_ok());
+        let p = c.interior_point().expect("interior");
+        assert!(c.contains(p));
+    }
+
+    #[test]
+    fn bow_tie_is_rejected() {
+        let b = Outline::polygon(vec![Vec2::new(0.0, 0.0), Vec2::new(3.0, 3.0), Vec2::new(3.0, 0.0), Vec2::new(0.0, 1.0)]);
+        assert!(matches!(b.validate(), Err(OutlineError::SelfIntersecting(..))));
+    }
+
+    #[test]
+    fn concave_arc_reduces_area() {
+        // A square whose top edge bows inward by a shallow arc.
+        let mut s = square();
+        s.bulges[2] = -0.2;
+        assert!(s.signed_area() < 4.0);
+        assert!(!s.contains(Vec2::new(1.0, 1.95)));
+        assert!(s.contains(Vec2::new(1.0, 1.0)));
+    }
+}

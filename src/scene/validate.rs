@@ -1,0 +1,292 @@
+//! Checks a scene for everything that would make a trace meaningless, and says how to fix it.
+
+use std::collections::HashSet;
+use std::fmt;
+
+use super::{Emission, MAX_DETECTOR_BINS, MAX_RAYS_PER_SOURCE, MAX_SPECTRUM_LINES, ObjectKind, Path, SCENE_VERSION, Scene};
+use crate::optics::material::Dispersion;
+
+/// Most points on one thin element.
+pub const MAX_PATH_POINTS: usize = 100_000;
+
+/// How serious a problem is.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Severity {
+    /// The scene cannot be traced as it is.
+    Error,
+    /// The scene can be traced, but a result may mislead.
+    Warning,
+}
+
+/// One thing wrong with a scene.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Problem {
+    pub severity: Severity,
+    /// The object concerned, by id and name.
+    pub object: Option<(u64, String)>,
+    pub message: String,
+}
+
+impl fmt::Display for Problem {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let sev = match self.severity {
+            Severity::Error => "error",
+            Severity::Warning => "warning",
+        };
+        match &self.object {
+            Some((id, name)) => write!(f, "{sev}: object {id} \"{name}\": {}", self.message),
+            None => write!(f, "{sev}: {}", self.message),
+        }
+    }
+}
+
+struct Collector {
+    problems: Vec<Problem>,
+    current: Option<(u64, String)>,
+}
+
+impl Collector {
+    fn error(&mut self, message: impl Into<String>) {
+        self.problems.push(Problem {
+            severity: Severity::Error,
+            object: self.current.clone(),
+            message: message.into(),
+        });
+    }
+    fn warning(&mut self, message: impl Into<String>) {
+        self.problems.push(Problem {
+            severity: Severity::Warning,
+            object: self.current.clone(),
+            message: message.into(),
+        });
+    }
+}
+
+fn finite_point(p: (f64, f64)) -> bool {
+    p.0.is_finite() && p.1.is_finite()
+}
+
+/// Every problem of the scene, errors first in object order, then warnings.
+pub fn validate(scene: &Scene) -> Vec<Problem> {
+    let mut c = Collector {
+        problems: Vec::new(),
+        current: None,
+    };
+    if scene.version == 0 || scene.version > SCENE_VERSION {
+        c.error(format!(
+            "the scene is version {}, this build reads versions 1 to {SCENE_VERSION}; use a newer build",
+            scene.version
+        ));
+    }
+    if scene.material(&scene.ambient).is_none() {
+        c.error(format!("the ambient material \"{}\" is not defined; {}", scene.ambient, material_hint()));
+    }
+    let s = &scene.settings;
+    if !(s.threshold.is_finite() && (0.0..1.0).contains(&s.threshold)) {
+        c.error(format!("settings.threshold must be at least 0 and below 1, it is {}", s.threshold));
+    }
+    if s.max_depth == 0 || s.max_depth > 100_000 {
+        c.error(format!("settings.max_depth must be from 1 to 100000, it is {}", s.max_depth));
+    }
+    if !(s.margin.is_finite() && s.margin >= 0.0) {
+        c.error(format!("settings.margin must be zero or positive, it is {}", s.margin));
+    }
+    let mut names = HashSet::new();
+    for m in &scene.materials {
+        c.current = None;
+        if !names.insert(m.name.as_str()) {
+            c.error(format!("the material \"{}\" is defined twice", m.name));
+        }
+        check_material(&mut c, m);
+    }
+    let mut ids = HashSet::new();
+    let mut object_names = HashSet::new();
+    for o in &scene.objects {
+        c.current = Some((o.id, o.name.clone()));
+        if !ids.insert(o.id) {
+            c.error(format!("the id {} is used by more than one object; give each object its own id", o.id));
+        }
+        if !object_names.insert(o.name.as_str()) {
+            c.warning("another object has the same name; results are reported by name");
+        }
+        match &o.kind {
+            ObjectKind::Solid(solid) => {
+                match scene.material(&solid.material) {
+                    None => c.error(format!("the material \"{}\" is not defined; {}", solid.material, material_hint())),
+                    Some(m) => {
+                        for nm in source_wavelengths(scene) {
+                            if !m.is_in_valid_range(nm) {
+                                c.warning(format!(
+                                    "{nm} nm is outside the range where the data for \"{}\" are valid ({}–{} nm)",
+                                    m.name, m.valid_nm.0, m.valid_nm.1
+                                ));
+                            }
+                        }
+                    }
+                }
+                match solid.shape.outline() {
+                    Err(e) => c.error(format!("the {} cannot be built: {e}", solid.shape.word())),
+                    Ok(outline) => {
+                        if let Err(e) = outline.validate() {
+                            c.error(format!("the {} is not a usable outline: {e}", solid.shape.word()));
+                        }
+                    }
+                }
+            }
+            ObjectKind::Mirror(m) => {
+                check_path(&mut c, &m.path);
+                fraction(&mut c, "reflectance", m.reflectance);
+            }
+            ObjectKind::Absorber(a) => check_path(&mut c, &a.path),
+            ObjectKind::Splitter(sp) => {
+                check_path(&mut c, &sp.path);
+                fraction(&mut c, "reflectance", sp.reflectance);
+                fraction(&mut c, "transmittance", sp.transmittance);
+                if sp.reflectance + sp.transmittance > 1.0 + 1e-12 {
+                    c.error("reflectance + transmittance must not exceed 1");
+                }
+            }
+            ObjectKind::Detector(d) => {
+                check_path(&mut c, &d.path);
+                for (name, v) in [("bins", d.bins), ("angle_bins", d.angle_bins)] {
+                    if v == 0 || v > MAX_DETECTOR_BINS {
+                        c.error(format!("{name} must be from 1 to {MAX_DETECTOR_BINS}, it is {v}"));
+                    }
+                }
+            }
+            ObjectKind::PointSource(p) => {
+                if !finite_point(p.position) {
+                    c.error("the position must be finite");
+                }
+                if !(p.start_deg.is_finite() && p.end_deg.is_finite()) {
+                    c.error("start_deg and end_deg must be finite");
+                } else if p.end_deg <= p.start_deg || p.end_deg - p.start_deg > 360.0 {
+                    c.error(format!(
+                        "the angular range {}°…{}° is empty or wider than 360°; end_deg must exceed start_deg by at most 360",
+                        p.start_deg, p.end_deg
+                    ));
+                }
+                check_emission(&mut c, &p.emission);
+            }
+            ObjectKind::BeamSource(b) => {
+                if !finite_point(b.center) || !b.direction_deg.is_finite() {
+                    c.error("the centre and direction must be finite");
+                }
+                if !(b.width.is_finite() && b.width >= 0.0) {
+                    c.error(format!("the width must be zero or positive, it is {}", b.width));
+                }
+                check_emission(&mut c, &b.emission);
+            }
+            ObjectKind::LambertianSource(l) => {
+                if !finite_point(l.a) || !finite_point(l.b) {
+                    c.error("the end points must be finite");
+                } else if (l.a.0 - l.b.0).hypot(l.a.1 - l.b.1) <= 0.0 {
+                    c.error("the emitter has zero length; move one end");
+                }
+                check_emission(&mut c, &l.emission);
+            }
+        }
+    }
+    c.current = None;
+    if !scene.objects.iter().any(|o| o.kind.is_source()) {
+        c.warning("the scene has no light source");
+    }
+    let mut problems = c.problems;
+    problems.sort_by_key(|p| p.severity != Severity::Error);
+    problems
+}
+
+fn material_hint() -> String {
+    let names: Vec<String> = crate::optics::library().into_iter().map(|m| m.name).collect();
+    format!("use one of the library materials ({}) or define it under `materials`", names.join(", "))
+}
+
+fn check_material(c: &mut Collector, m: &crate::optics::Material) {
+    let coeffs_ok = match &m.dispersion {
+        Dispersion::Constant { n } => n.is_finite() && *n > 0.0,
+        Dispersion::Cauchy { a, b_um2, c_um4 } => [a, b_um2, c_um4].iter().all(|v| v.is_finite()),
+        Dispersion::SellmeierWavelength { c0, terms } | Dispersion::SellmeierSquared { c0, terms } => {
+            c0.is_finite() && terms.iter().all(|(b, cc)| b.is_finite() && cc.is_finite())
+        }
+        Dispersion::PowerSeriesSquared { terms } => terms.iter().all(|(a, _)| a.is_finite()),
+        Dispersion::Gas { terms } => terms.iter().all(|(b, cc)| b.is_finite() && cc.is_finite()),
+    };
+    let prefix = format!("material \"{}\"", m.name);
+    if !coeffs_ok {
+        c.error(format!("{prefix}: every coefficient must be a finite number (and a constant index positive)"));
+    }
+    if !(m.absorption_per_mm.is_finite() && m.absorption_per_mm >= 0.0) {
+        c.error(format!("{prefix}: absorption_per_mm must be zero or positive, it is {}", m.absorption_per_mm));
+    }
+    if !(m.valid_nm.0.is_finite() && m.valid_nm.1.is_finite() && m.valid_nm.0 < m.valid_nm.1) {
+        c.error(format!("{prefix}: valid_nm must be a range (low, high) of wavelengths in nm"));
+    }
+}
+
+fn fraction(c: &mut Collector, name: &str, v: f64) {
+    if !(v.is_finite() && (0.0..=1.0).contains(&v)) {
+        c.error(format!("{name} must be between 0 and 1, it is {v}"));
+    }
+}
+
+fn check_path(c: &mut Collector, p: &Path) {
+    if p.points.len() < 2 {
+        c.error(format!("a thin element needs at least 2 points, it has {}", p.points.len()));
+    }
+    if p.points.len() > MAX_PATH_POINTS {
+        c.error(format!("a thin element may have at most {MAX_PATH_POINTS} points, it has {}", p.points.len()));
+    }
+    if !p.points.iter().all(|&q| finite_point(q)) || !p.bulges.iter().all(|b| b.is_finite()) {
+        c.error("every point and bulge must be a finite number");
+    }
+    if !p.bulges.is_empty() && p.bulges.len() + 1 != p.points.len() {
+        c.error(format!(
+            "there are {} points but {} bulges; give one bulge per piece ({}) or none",
+            p.points.len(),
+            p.bulges.len(),
+            p.points.len().saturating_sub(1)
+        ));
+    }
+}
+
+fn check_emission(c: &mut Collector, e: &Emission) {
+    if e.rays == 0 || e.rays > MAX_RAYS_PER_SOURCE {
+        c.error(format!("rays must be from 1 to {MAX_RAYS_PER_SOURCE}, it is {}", e.rays));
+    }
+    if !(e.power_w.is_finite() && e.power_w >= 0.0) {
+        c.error(format!("power_w must be zero or positive, it is {}", e.power_w));
+    }
+    if e.spectrum.is_empty() || e.spectrum.len() > MAX_SPECTRUM_LINES {
+        c.error(format!("the spectrum needs 1 to {MAX_SPECTRUM_LINES} lines, it has {}", e.spectrum.len()));
+    }
+    for l in &e.spectrum {
+        if !(l.nm.is_finite() && (100.0..=20_000.0).contains(&l.nm)) {
+            c.error(format!("a wavelength of {} nm is outside 100–20000 nm", l.nm));
+        }
+        if !(l.weight.is_finite() && l.weight >= 0.0) {
+            c.error(format!("a spectral weight must be zero or positive, it is {}", l.weight));
+        }
+    }
+    if !e.spectrum.is_empty() && e.spectrum.iter().map(|l| l.weight).sum::<f64>() <= 0.0 {
+        c.error("the spectral weights add up to zero");
+    }
+}
+
+/// Every wavelength any source emits.
+pub fn source_wavelengths(scene: &Scene) -> Vec<f64> {
+    let mut v: Vec<f64> = Vec::new();
+    for o in &scene.objects {
+        let e = match &o.kind {
+            ObjectKind::PointSource(p) => &p.emission,
+            ObjectKind::BeamSource(b) => &b.emission,
+            ObjectKind::LambertianSource(l) => &l.emission,
+            _ => continue,
+        };
+        for l in &e.spectrum {
+            if !v.contains(&l.nm) {
+                v.push(l.nm);
+            }
+        }
+    }
+    v
+}

@@ -1,0 +1,335 @@
+//! Turns a [`Scene`] into what the tracer needs: one flat list of edges in a BVH, each with
+//! its owner and role, the nesting of solids, and an index table per wavelength and medium.
+
+use crate::geom::{Aabb, Bvh, Edge, Outline, Vec2};
+use crate::scene::{ObjectKind, Scene, validate};
+
+/// What an edge does to light.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Role {
+    /// Boundary of solid number `solid` (index into [`Compiled::solids`]).
+    Solid { solid: u32 },
+    Mirror { reflectance: f64, one_sided: bool },
+    Absorber,
+    Splitter { reflectance: f64, transmittance: f64 },
+    /// Detector number `detector` (index into [`Compiled::detectors`]); `along` is the length
+    /// of the detector's path before this piece.
+    Detector { detector: u32, along: f64 },
+}
+
+#[derive(Clone, Copy, Debug)]
+pub struct EdgeInfo {
+    pub edge: Edge,
+    /// Index of the owning object in `scene.objects`.
+    pub object: u32,
+    /// Index of the edge within its object.
+    pub index: u32,
+    pub role: Role,
+}
+
+#[derive(Clone, Debug)]
+pub struct SolidInfo {
+    pub object: u32,
+    pub outline: Outline,
+    /// +1 if the outline runs counter-clockwise (outward = right normal), −1 otherwise.
+    pub orient: f64,
+    /// The smallest solid containing this one, if any.
+    pub parent: Option<u32>,
+    /// Number of solids containing this one.
+    pub depth: u32,
+    pub bbox: Aabb,
+    pub area: f64,
+}
+
+#[derive(Clone, Debug)]
+pub struct DetectorInfo {
+    pub object: u32,
+    pub name: String,
+    pub length: f64,
+}
+
+/// Media are numbered 0 for the ambient medium and `k + 1` for solid `k`.
+#[derive(Clone, Debug)]
+pub struct Compiled {
+    pub edges: Vec<EdgeInfo>,
+    pub bvh: Bvh,
+    pub solids: Vec<SolidInfo>,
+    pub detectors: Vec<DetectorInfo>,
+    /// Material name of each medium.
+    pub medium_names: Vec<String>,
+    /// Absorption coefficient of each medium, 1/mm.
+    pub alpha: Vec<f64>,
+    pub wavelengths: Vec<f64>,
+    /// `index[w][m]`: refractive index (relative to standard air) at wavelength `w` in medium `m`.
+    pub index: Vec<Vec<f64>>,
+    /// Rays leaving this box escape.
+    pub bounds: Aabb,
+    /// A length typical of the scene (bounding-box extent), for tolerances.
+    pub scale: f64,
+    pub warnings: Vec<String>,
+    /// Ids of objects left out because of errors.
+    pub excluded: Vec<u64>,
+}
+
+impl Compiled {
+    /// Builds everything the tracer needs. Objects with errors are left out, each with a
+    /// warning; nothing here fails.
+    pub fn new(scene: &Scene) -> Self {
+        let mut warnings = Vec::new();
+        let problems = validate(scene);
+        let bad: Vec<u64> = problems
+            .iter()
+            .filter(|p| p.severity == crate::scene::validate::Severity::Error)
+            .filter_map(|p| p.object.as_ref().map(|o| o.0))
+            .collect();
+        for p in &problems {
+            if p.severity == crate::scene::validate::Severity::Error {
+                warnings.push(format!("{p} (left out of the trace)"));
+            }
+        }
+        let ambient = scene
+            .material(&scene.ambient)
+            .unwrap_or_else(|| crate::optics::Material::constant("air", 1.0));
+        let wavelengths = crate::scene::validate::source_wavelengths(scene);
+        let mut media = vec![ambient];
+        let mut edges = Vec::new();
+        let mut solids = Vec::new();
+        let mut detectors = Vec::new();
+        for (oi, o) in scene.objects.iter().enumerate() {
+            if bad.contains(&o.id) {
+                continue;
+            }
+            let oi32 = oi as u32;
+            let push_path = |edges: &mut Vec<EdgeInfo>, path: &crate::scene::Path, role: &dyn Fn(f64) -> Role| {
+                let mut along = 0.0;
+                for (k, e) in path.edges().into_iter().enumerate() {
+                    edges.push(EdgeInfo {
+                        edge: e,
+                        object: oi32,
+                        index: k as u32,
+                        role: role(along),
+                    });
+                    along += e.length();
+                }
+            };
+            match &o.kind {
+                ObjectKind::Solid(s) => {
+                    let (Ok(outline), Some(material)) = (s.shape.outline(), scene.material(&s.material)) else {
+                        continue;
+                    };
+                    let k = solids.len() as u32;
+                    for (i, e) in outline.edges().enumerate() {
+                        edges.push(EdgeInfo {
+                            edge: e,
+                            object: oi32,
+                            index: i as u32,
+                            role: Role::Solid { solid: k },
+                        });
+                    }
+                    let area = outline.signed_area();
+                    solids.push(SolidInfo {
+                        object: oi32,
+                        orient: if area >= 0.0 { 1.0 } else { -1.0 },
+                        bbox: outline.aabb(),
+                        area: area.abs(),
+                        outline,
+                        parent: None,
+                        depth: 0,
+                    });
+                    media.push(material);
+                }
+                ObjectKind::Mirror(m) => push_path(&mut edges, &m.path, &|_| Role::Mirror {
+                    reflectance: m.reflectance,
+                    one_sided: m.one_sided,
+                }),
+                ObjectKind::Absorber(a) => push_path(&mut edges, &a.path, &|_| Role::Absorber),
+                ObjectKind::Splitter(s) => push_path(&mut edges, &s.path, &|_| Role::Splitter {
+                    reflectance: s.reflectance,
+                    transmittance: s.transmittance,
+                }),
+                ObjectKind::Detector(d) => {
+                    let det = detectors.len() as u32;
+                    push_path(&mut edges, &d.path, &|along| Role::Detector { detector: det, along });
+                    detectors.push(DetectorInfo {
+                        object: oi32,
+                        name: o.name.clone(),
+                        length: d.path.edges().iter().map(Edge::length).sum(),
+                    });
+                }
+                ObjectKind::PointSource(_) | ObjectKind::BeamSource(_) | ObjectKind::LambertianSource(_) => {}
+            }
+        }
+        nest(&mut solids, &mut warnings, scene);
+        let bvh_edges: Vec<Edge> = edges.iter().map(|e| e.edge).collect();
+        let bvh = Bvh::build(&bvh_edges);
+        let mut bounds = bvh.bounds();
+        for o in &scene.objects {
+            for p in source_points(&o.kind) {
+                if p.0.is_finite() && p.1.is_finite() {
+                    bounds.include(Vec2::new(p.0, p.1));
+                }
+            }
+        }
+        if bounds.is_empty() {
+            bounds = Aabb::from_points([Vec2::new(0.0, 0.0)]);
+        }
+        let scale = bounds.extent().max(1e-3);
+        let margin = if scene.settings.margin.is_finite() { scene.settings.margin.max(0.0) } else { 0.0 };
+        let bounds = bounds.expanded(margin.max(0.01 * scale));
+        let index: Vec<Vec<f64>> = wavelengths
+            .iter()
+            .map(|&nm| media.iter().map(|m| m.index_rel_air(nm)).collect())
+            .collect();
+        for (w, row) in index.iter().enumerate() {
+            for (m, n) in row.iter().enumerate() {
+                if !(n.is_finite() && *n > 0.0) {
+                    warnings.push(format!(
+                        "material \"{}\" has no usable index at {} nm (got {n}); rays there are treated as in air",
+                        media[m].name, wavelengths[w]
+                    ));
+                }
+            }
+        }
+        let index = index
+            .into_iter()
+            .map(|row| row.into_iter().map(|n| if n.is_finite() && n > 0.0 { n } else { 1.0 }).collect())
+            .collect();
+        Self {
+            edges,
+            bvh,
+            detectors,
+            medium_names: media.iter().map(|m| m.name.clone()).collect(),
+            alpha: media.iter().map(|m| m.absorption_per_mm.max(0.0)).collect(),
+            solids,
+            wavelengths,
+            index,
+            bounds,
+            scale,
+            warnings,
+            excluded: bad,
+        }
+    }
+
+    /// The medium at point `p`: the innermost solid containing it (as medium number), else 0.
+    pub fn medium_at(&self, p: Vec2) -> u32 {
+        let mut best: Option<(u32, u32)> = None; // (depth, solid)
+        for (k, s) in self.solids.iter().enumerate() {
+            if s.bbox.contains(p) && s.outline.contains(p) && best.is_none_or(|(d, _)| s.depth > d) {
+                best = Some((s.depth, k as u32));
+            }
+        }
+        best.map_or(0, |(_, k)| k + 1)
+    }
+
+    /// Whether solid `k` is the medium `m` or one of its ancestors.
+    pub fn solid_in_chain(&self, k: u32, m: u32) -> bool {
+        let mut cur = if m == 0 { None } else { Some(m - 1) };
+        while let Some(c) = cur {
+            if c == k {
+                return true;
+            }
+            cur = self.solids[c as usize].parent;
+        }
+        false
+    }
+}
+
+fn source_points(kind: &ObjectKind) -> Vec<(f64, f64)> {
+    match kind {
+        ObjectKind::PointSource(p) => vec![p.position],
+        ObjectKind::BeamSource(b) => {
+            let d = b.direction_deg.to_radians();
+            let (s, c) = d.sin_cos();
+            let h = b.width / 2.0;
+            vec![(b.center.0 - s * h, b.center.1 + c * h), (b.center.0 + s * h, b.center.1 - c * h)]
+        }
+        ObjectKind::LambertianSource(l) => vec![l.a, l.b],
+        _ => Vec::new(),
+    }
+}
+
+/// Finds for each solid the smallest solid that contains it, and warns about solids that
+/// overlap without one containing the other.
+fn nest(solids: &mut [SolidInfo], warnings: &mut Vec<String>, scene: &Scene) {
+    let inner: Vec<Option<Vec2>> = solids.iter().map(|s| s.outline.interior_point()).collect();
+    let n = solids.len();
+    for k in 0..n {
+        let Some(p) = inner[k] else { continue };
+        let mut parent: Option<usize> = None;
+        for j in 0..n {
+            if j == k || solids[j].area < solids[k].area || (solids[j].area == solids[k].area && j > k) {
+                continue;
+            }
+            if solids[j].bbox.contains(p) && solids[j].outline.contains(p) && parent.is_none_or(|q| solids[j].area < solids[q].area) {
+                parent = Some(j);
+            }
+        }
+        solids[k].parent = parent.map(|j| j as u32);
+    }
+    for k in 0..n {
+        let mut d = 0;
+        let mut cur = solids[k].parent;
+        while let Some(c) = cur {
+            d += 1;
+            if d > n {
+                break;
+            }
+            cur = solids[c as usize].parent;
+        }
+        solids[k].depth = d as u32;
+    }
+    // Overlap check on pairs whose boxes meet: a vertex of one strictly inside the other
+    // without nesting means the solids overlap.
+    for k in 0..n {
+        for j in (k + 1)..n {
+            if !solids[k].bbox.overlaps(&solids[j].bbox) {
+                continue;
+            }
+            let nested = chain_contains(solids, k, j) || chain_contains(solids, j, k);
+            if nested {
+                continue;
+            }
+            let overlap = inner[k].is_some_and(|p| solids[j].outline.contains(p))
+                || inner[j].is_some_and(|p| solids[k].outline.contains(p))
+                || partial_overlap(&solids[k].outline, &solids[j].outline);
+            if overlap {
+                let name = |s: &SolidInfo| scene.objects[s.object as usize].name.clone();
+                warnings.push(format!(
+                    "solids \"{}\" and \"{}\" overlap without one containing the other; where they overlap the medium is ambiguous",
+                    name(&solids[k]),
+                    name(&solids[j])
+                ));
+            }
+        }
+    }
+}
+
+fn chain_contains(solids: &[SolidInfo], outer: usize, inner: usize) -> bool {
+    let mut cur = solids[inner].parent;
+    let mut guard = 0;
+    while let Some(c) = cur {
+        if c as usize == outer {
+            return true;
+        }
+        guard += 1;
+        if guard > solids.len() {
+            break;
+        }
+        cur = solids[c as usize].parent;
+    }
+    false
+}
+
+/// Whether some edge midpoint of one outline lies strictly inside the other (touching
+/// outlines, whose shared faces lie on the boundary, are not counted).
+fn partial_overlap(a: &Outline, b: &Outline) -> bool {
+    let bb = b.aabb();
+    let inside_strictly = |o: &Outline, p: Vec2| {
+        let eps = 1e-7 * o.aabb().extent();
+        o.contains(p) && [Vec2::new(eps, 0.0), Vec2::new(-eps, 0.0), Vec2::new(0.0, eps), Vec2::new(0.0, -eps)].iter().all(|d| o.contains(p + d))
+    };
+    a.edges().take(2000).any(|e| {
+        let m = e.point_at(0.5);
+        bb.contains(m) && inside_strictly(b, m)
+    })
+}

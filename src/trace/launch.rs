@@ -1,0 +1,141 @@
+//! Rays leaving the sources.
+//!
+//! In principal-path and tree modes rays are spread evenly (stratified at the centres of
+//! equal intervals); in Monte Carlo mode each ray's position and direction are drawn from
+//! its own random stream, seeded from (seed, source, line, ray), so results do not depend on
+//! how work is split across threads.
+
+use super::{Compiled, TraceConfig};
+use crate::geom::{Vec2, unit};
+use crate::scene::{Emission, ObjectKind, Polarization, Scene, TraceMode};
+
+/// A ray ready to trace.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Launch {
+    /// Object index of the source.
+    pub source: u32,
+    pub origin: Vec2,
+    pub dir: Vec2,
+    pub power_s: f64,
+    pub power_p: f64,
+    /// Index into [`Compiled::wavelengths`].
+    pub wavelength: u32,
+    /// Medium at the start (on a face: the medium on the side the ray heads into).
+    pub medium: u32,
+    /// Seed of this ray's random stream (Monte Carlo).
+    pub seed: u64,
+}
+
+/// SplitMix64: a small, fast generator with good statistical quality (Steele, Lea & Flood,
+/// "Fast splittable pseudorandom number generators", OOPSLA 2014).
+#[derive(Clone, Debug)]
+pub struct Rng(u64);
+
+impl Rng {
+    pub fn new(seed: u64) -> Self {
+        Self(seed)
+    }
+
+    pub fn next_u64(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^ (z >> 31)
+    }
+
+    /// Uniform in [0, 1).
+    pub fn uniform(&mut self) -> f64 {
+        (self.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
+    }
+}
+
+/// Mixes several numbers into one seed.
+pub fn mix(parts: &[u64]) -> u64 {
+    let mut r = Rng::new(0x5EED_0F_1A9E);
+    let mut h = 0u64;
+    for &p in parts {
+        r.0 ^= p.wrapping_add(h);
+        h = r.next_u64();
+    }
+    h
+}
+
+/// Every launched ray of the scene, in object, line and ray order.
+pub fn launches(scene: &Scene, compiled: &Compiled, config: &TraceConfig) -> Vec<Launch> {
+    let mut out = Vec::new();
+    let mc = config.mode == TraceMode::MonteCarlo;
+    let delta = 1e-9 * compiled.scale;
+    for (oi, o) in scene.objects.iter().enumerate() {
+        let emission: &Emission = match &o.kind {
+            ObjectKind::PointSource(p) => &p.emission,
+            ObjectKind::BeamSource(b) => &b.emission,
+            ObjectKind::LambertianSource(l) => &l.emission,
+            _ => continue,
+        };
+        if compiled.excluded.contains(&o.id) {
+            continue;
+        }
+        let n = config.rays.unwrap_or(emission.rays).max(1);
+        let total_weight: f64 = emission.spectrum.iter().map(|l| l.weight).sum();
+        for (li, line) in emission.spectrum.iter().enumerate() {
+            let Some(w) = compiled.wavelengths.iter().position(|&x| x == line.nm) else { continue };
+            let per_ray = emission.power_w * line.weight / total_weight / f64::from(n);
+            let (s, p) = match emission.polarization {
+                Polarization::Unpolarized => (per_ray / 2.0, per_ray / 2.0),
+                Polarization::S => (per_ray, 0.0),
+                Polarization::P => (0.0, per_ray),
+            };
+            for i in 0..n {
+                let seed = mix(&[config.seed, oi as u64, li as u64, u64::from(i)]);
+                let mut rng = Rng::new(seed);
+                let strat = (f64::from(i) + 0.5) / f64::from(n);
+                let (origin, dir) = match &o.kind {
+                    ObjectKind::PointSource(ps) => {
+                        let u = if mc { rng.uniform() } else { strat };
+                        let ang = ps.start_deg + (ps.end_deg - ps.start_deg) * u;
+                        (Vec2::new(ps.position.0, ps.position.1), unit(ang.to_radians()))
+                    }
+                    ObjectKind::BeamSource(b) => {
+                        let u = if mc { rng.uniform() } else { strat };
+                        let d = unit(b.direction_deg.to_radians());
+                        let across = Vec2::new(-d.y, d.x);
+                        (Vec2::new(b.center.0, b.center.1) + across * (b.width * (u - 0.5)), d)
+                    }
+                    ObjectKind::LambertianSource(l) => {
+                        let a = Vec2::new(l.a.0, l.a.1);
+                        let b = Vec2::new(l.b.0, l.b.1);
+                        let along = b - a;
+                        let len = along.norm().max(1e-300);
+                        let t = along / len;
+                        let normal = Vec2::new(-t.y, t.x);
+                        // Position: a golden-ratio sequence paired with stratified angles
+                        // covers the (position, angle) square evenly; Monte Carlo draws both.
+                        let (u_pos, u_ang) = if mc {
+                            (rng.uniform(), rng.uniform())
+                        } else {
+                            ((f64::from(i) * 0.618_033_988_749_894_9 + 0.5).fract(), strat)
+                        };
+                        // Intensity ∝ cos θ: the cumulative distribution is (1 + sin θ)/2.
+                        let theta = (2.0 * u_ang - 1.0).clamp(-1.0, 1.0).asin();
+                        let dir = normal * theta.cos() + t * theta.sin();
+                        (a + along * u_pos, dir)
+                    }
+                    _ => continue,
+                };
+                let medium = compiled.medium_at(origin + dir * delta);
+                out.push(Launch {
+                    source: oi as u32,
+                    origin,
+                    dir,
+                    power_s: s,
+                    power_p: p,
+                    wavelength: w as u32,
+                    medium,
+                    seed,
+                });
+            }
+        }
+    }
+    out
+}

@@ -1,0 +1,425 @@
+//! The trace engine: `trace(&Scene, &TraceConfig) -> Trace`.
+//!
+//! Tracing never fails. Objects that cannot be traced are left out with a warning, and the
+//! result always carries a closed power budget: every launched watt ends in exactly one sink.
+//!
+//! Work is split into fixed chunks of launched rays that are traced independently (in
+//! parallel with rayon) and merged in order, so the result does not depend on the number of
+//! threads. Chunks are run in fixed batches; between batches the caller's [`Control`] is
+//! told the progress and asked whether to stop.
+
+mod compile;
+mod engine;
+mod job;
+mod launch;
+
+use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
+
+use rayon::prelude::*;
+
+pub use compile::{Compiled, Role};
+pub use job::TraceJob;
+pub use launch::Launch;
+
+use crate::geom::Vec2;
+use crate::scene::{Scene, TraceMode};
+
+/// Launched rays per chunk (the unit of parallel work).
+const CHUNK: usize = 32;
+/// Chunks per batch (the unit of progress, cancellation and the event cap).
+const BATCH: usize = 64;
+
+/// Settings for one trace; [`TraceConfig::from_scene`] takes them from the scene file.
+#[derive(Clone, Debug, PartialEq)]
+pub struct TraceConfig {
+    pub mode: TraceMode,
+    /// Tree mode: branches below this fraction of their launch power are dropped.
+    pub threshold: f64,
+    /// Most interface events along one path.
+    pub max_depth: u32,
+    pub seed: u64,
+    /// Most events kept for drawing and export.
+    pub max_stored_events: usize,
+    /// If set, every source launches this many rays per wavelength instead of its own count.
+    pub rays: Option<u32>,
+    /// Threads to use; `None` uses rayon's global pool.
+    pub threads: Option<usize>,
+}
+
+impl TraceConfig {
+    pub fn from_scene(scene: &Scene) -> Self {
+        let s = &scene.settings;
+        Self {
+            mode: s.mode,
+            threshold: s.threshold,
+            max_depth: s.max_depth,
+            seed: s.seed,
+            max_stored_events: s.max_stored_events,
+            rays: None,
+            threads: None,
+        }
+    }
+}
+
+/// What happened at one point of a ray's path.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[repr(u8)]
+pub enum EventKind {
+    /// The ray leaves its source.
+    Launch,
+    /// Transmitted through an interface (possibly with a reflected sibling in tree mode).
+    Refract,
+    /// Reflected: a partial Fresnel reflection, a mirror or a beam splitter.
+    Reflect,
+    /// Totally internally reflected.
+    Tir,
+    /// Passed a beam splitter or an interface between equal indices without bending.
+    Transmit,
+    /// Absorbed by an absorber, a mirror's back or a beam splitter.
+    Absorb,
+    /// Absorbed by a detector and recorded.
+    Detect,
+    /// Left the scene's boundary.
+    Escape,
+    /// Stopped by the event limit (counted as trapped).
+    Limit,
+    /// Dropped below the power threshold.
+    Dropped,
+}
+
+impl EventKind {
+    pub fn word(self) -> &'static str {
+        match self {
+            Self::Launch => "launch",
+            Self::Refract => "refract",
+            Self::Reflect => "reflect",
+            Self::Tir => "TIR",
+            Self::Transmit => "transmit",
+            Self::Absorb => "absorb",
+            Self::Detect => "detect",
+            Self::Escape => "escape",
+            Self::Limit => "limit",
+            Self::Dropped => "dropped",
+        }
+    }
+
+    /// Whether the ray ends here.
+    pub fn is_end(self) -> bool {
+        matches!(self, Self::Absorb | Self::Detect | Self::Escape | Self::Limit | Self::Dropped)
+    }
+}
+
+/// No object or edge.
+pub const NONE: u32 = u32::MAX;
+
+/// One event of one ray: 64 bytes, so a million fit in 64 MB.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Event {
+    pub point: Vec2,
+    /// Power in s and p leaving the event along this ray, W.
+    pub after_s: f32,
+    pub after_p: f32,
+    /// Power in s and p arriving at the event, W.
+    pub before_s: f32,
+    pub before_p: f32,
+    pub ray: u32,
+    /// Object index in `scene.objects` ([`NONE`] for launch, escape, limit).
+    pub object: u32,
+    /// Edge index within the object.
+    pub edge: u32,
+    /// The medium the ray travels in after this event (0 ambient, k + 1 solid k).
+    pub medium: u32,
+    /// Indices on the arriving and the far side (equal to `n1` where nothing is crossed).
+    pub n1: f32,
+    pub n2: f32,
+    /// Angle of incidence in degrees (0 where not applicable).
+    pub incidence_deg: f32,
+    pub kind: EventKind,
+}
+
+impl Event {
+    /// Fresnel coefficients at this event, recomputed from its indices and angle.
+    pub fn fresnel(&self) -> crate::optics::Fresnel {
+        crate::optics::fresnel(f64::from(self.n1), f64::from(self.n2), f64::from(self.incidence_deg).to_radians().cos())
+    }
+}
+
+/// One ray: a launched ray or a branch split off another.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct RayRecord {
+    pub id: u32,
+    /// The ray this one split off from ([`NONE`] for a launched ray).
+    pub parent: u32,
+    /// Object index of the source.
+    pub source: u32,
+    pub wavelength_nm: f64,
+    /// Index of the first stored event and number stored.
+    pub first_event: usize,
+    pub n_events: u32,
+}
+
+/// Where the power went, in watts.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Budget {
+    pub launched: f64,
+    pub escaped: f64,
+    /// Absorbed anywhere (media, absorbers, mirror and splitter losses).
+    pub absorbed: f64,
+    /// Absorbed inside the media, per medium (0 ambient, k + 1 solid k).
+    pub absorbed_in_media: Vec<f64>,
+    /// Absorbed by thin elements, per object index.
+    pub absorbed_by_object: Vec<f64>,
+    pub trapped: f64,
+    pub below_threshold: f64,
+    /// Per detector (same order as [`Trace::detectors`]).
+    pub detected: Vec<f64>,
+}
+
+impl Budget {
+    fn sized(media: usize, objects: usize, detectors: usize) -> Self {
+        Self {
+            absorbed_in_media: vec![0.0; media],
+            absorbed_by_object: vec![0.0; objects],
+            detected: vec![0.0; detectors],
+            ..Self::default()
+        }
+    }
+
+    fn add(&mut self, o: &Budget) {
+        self.launched += o.launched;
+        self.escaped += o.escaped;
+        self.absorbed += o.absorbed;
+        self.trapped += o.trapped;
+        self.below_threshold += o.below_threshold;
+        for (a, b) in self.absorbed_in_media.iter_mut().zip(&o.absorbed_in_media) {
+            *a += b;
+        }
+        for (a, b) in self.absorbed_by_object.iter_mut().zip(&o.absorbed_by_object) {
+            *a += b;
+        }
+        for (a, b) in self.detected.iter_mut().zip(&o.detected) {
+            *a += b;
+        }
+    }
+
+    pub fn detected_total(&self) -> f64 {
+        self.detected.iter().sum()
+    }
+
+    /// Sum of all sinks.
+    pub fn accounted(&self) -> f64 {
+        self.escaped + self.absorbed + self.trapped + self.below_threshold + self.detected_total()
+    }
+
+    /// |launched − accounted| / launched (0 when nothing was launched).
+    pub fn closure_error(&self) -> f64 {
+        if self.launched > 0.0 { (self.launched - self.accounted()).abs() / self.launched } else { 0.0 }
+    }
+}
+
+/// One ray arriving at a detector.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct DetectorHit {
+    /// Distance along the detector from its first point, mm.
+    pub along: f64,
+    /// Angle of the arriving ray from the detector's normal on the side it came from,
+    /// degrees in −90…90 (positive counter-clockwise).
+    pub angle_deg: f64,
+    pub power: f64,
+    pub wavelength_nm: f64,
+}
+
+/// Everything one detector saw.
+#[derive(Clone, Debug, PartialEq)]
+pub struct DetectorResult {
+    /// Object index and name.
+    pub object: u32,
+    pub name: String,
+    pub length: f64,
+    pub hits: Vec<DetectorHit>,
+}
+
+/// The result of a trace.
+#[derive(Clone, Debug)]
+pub struct Trace {
+    pub mode: TraceMode,
+    pub rays: Vec<RayRecord>,
+    pub events: Vec<Event>,
+    pub budget: Budget,
+    pub detectors: Vec<DetectorResult>,
+    /// Names of the media, 0 the ambient.
+    pub medium_names: Vec<String>,
+    pub wavelengths: Vec<f64>,
+    /// Rays traced (launched and split), including those whose events were not stored.
+    pub n_rays: u64,
+    /// Events produced, including those not stored.
+    pub n_events: u64,
+    /// Whether the event cap was reached.
+    pub events_truncated: bool,
+    /// Whether the trace was stopped early; the budget then covers only the rays traced.
+    pub cancelled: bool,
+    pub warnings: Vec<String>,
+}
+
+impl Trace {
+    /// The stored events of a ray.
+    pub fn events_of(&self, ray: &RayRecord) -> &[Event] {
+        &self.events[ray.first_event..ray.first_event + ray.n_events as usize]
+    }
+}
+
+/// Progress reporting and cancellation, shared with another thread.
+#[derive(Debug, Default)]
+pub struct Control {
+    cancel: AtomicBool,
+    done: AtomicU64,
+    total: AtomicU64,
+}
+
+impl Control {
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    /// Asks the trace to stop at the next chunk.
+    pub fn cancel(&self) {
+        self.cancel.store(true, Ordering::Relaxed);
+    }
+
+    pub fn is_cancelled(&self) -> bool {
+        self.cancel.load(Ordering::Relaxed)
+    }
+
+    /// Launched rays finished so far and in all.
+    pub fn progress(&self) -> (u64, u64) {
+        (self.done.load(Ordering::Relaxed), self.total.load(Ordering::Relaxed))
+    }
+}
+
+/// Traces `scene` with `config`.
+pub fn trace(scene: &Scene, config: &TraceConfig) -> Trace {
+    trace_with(scene, config, &Control::new())
+}
+
+/// Traces `scene`, reporting progress to and obeying cancellation from `control`.
+pub fn trace_with(scene: &Scene, config: &TraceConfig, control: &Control) -> Trace {
+    let compiled = Compiled::new(scene);
+    trace_compiled(scene, &compiled, config, control)
+}
+
+/// Traces an already compiled scene (lets a caller reuse the BVH between traces).
+pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, control: &Control) -> Trace {
+    let mut warnings = compiled.warnings.clone();
+    let launches = launch::launches(scene, compiled, config);
+    control.total.store(launches.len() as u64, Ordering::Relaxed);
+    control.done.store(0, Ordering::Relaxed);
+    let tracer = engine::Tracer::new(scene, compiled, config);
+    let chunks: Vec<&[Launch]> = launches.chunks(CHUNK).collect();
+    let mut budget = Budget::sized(compiled.alpha.len(), scene.objects.len(), compiled.detectors.len());
+    let mut detectors: Vec<DetectorResult> = compiled
+        .detectors
+        .iter()
+        .map(|d| DetectorResult {
+            object: d.object,
+            name: d.name.clone(),
+            length: d.length,
+            hits: Vec::new(),
+        })
+        .collect();
+    let mut rays: Vec<RayRecord> = Vec::new();
+    let mut events: Vec<Event> = Vec::new();
+    let mut n_rays = 0u64;
+    let mut n_events = 0u64;
+    let mut truncated = false;
+    let mut cancelled = false;
+    let run_batch = |batch: &[&[Launch]], store: bool| -> Vec<Option<engine::ChunkResult>> {
+        batch
+            .par_iter()
+            .map(|c| {
+                if control.is_cancelled() {
+                    return None;
+                }
+                let r = tracer.trace_chunk(c, store);
+                control.done.fetch_add(c.len() as u64, Ordering::Relaxed);
+                Some(r)
+            })
+            .collect()
+    };
+    let pool = config
+        .threads
+        .and_then(|n| rayon::ThreadPoolBuilder::new().num_threads(n.max(1)).build().ok());
+    for batch in chunks.chunks(BATCH) {
+        if control.is_cancelled() {
+            cancelled = true;
+            break;
+        }
+        let store = !truncated;
+        let results = match &pool {
+            Some(p) => p.install(|| run_batch(batch, store)),
+            None => run_batch(batch, store),
+        };
+        for r in results {
+            let Some(r) = r else {
+                cancelled = true;
+                continue;
+            };
+            budget.add(&r.budget);
+            for (d, h) in detectors.iter_mut().zip(r.hits) {
+                d.hits.extend(h);
+            }
+            n_events += r.n_events;
+            let ray_base = n_rays as u32;
+            n_rays += r.n_rays;
+            if truncated || !store {
+                continue;
+            }
+            if events.len() + r.events.len() > config.max_stored_events {
+                truncated = true;
+                continue;
+            }
+            let event_base = events.len();
+            rays.extend(r.rays.into_iter().map(|mut ray| {
+                ray.id += ray_base;
+                if ray.parent != NONE {
+                    ray.parent += ray_base;
+                }
+                ray.first_event += event_base;
+                ray
+            }));
+            events.extend(r.events.into_iter().map(|mut e| {
+                e.ray += ray_base;
+                e
+            }));
+        }
+        if cancelled {
+            break;
+        }
+    }
+    if truncated {
+        warnings.push(format!(
+            "only the first {} of {n_events} events were kept (the limit is settings.max_stored_events); the budget covers all rays",
+            events.len()
+        ));
+    }
+    if cancelled {
+        warnings.push("the trace was stopped before all rays were traced".to_owned());
+    }
+    let err = budget.closure_error();
+    if err > 1e-9 {
+        warnings.push(format!("the power budget closes only to {err:.2e} relative"));
+    }
+    Trace {
+        mode: config.mode,
+        rays,
+        events,
+        budget,
+        detectors,
+        medium_names: compiled.medium_names.clone(),
+        wavelengths: compiled.wavelengths.clone(),
+        n_rays,
+        n_events,
+        events_truncated: truncated,
+        cancelled,
+        warnings,
+    }
+}
