@@ -1,0 +1,138 @@
+//! Snell's law, Fresnel coefficients, Brewster and critical angles against the published and
+//! computed values collected in the project's reference notes (`references.md` §2–§3).
+//!
+//! The formulas are those of Hecht, *Optics*, 5th ed. (2017), ch. 4, and Born & Wolf,
+//! *Principles of Optics*, 7th ed. (1999), §1.5. Each "computed" value was worked out from
+//! those formulas independently of this code and rounded to the digits shown.
+
+#![allow(clippy::unreadable_literal)]
+
+use raydraft::geom::{Vec2, unit};
+use raydraft::optics::fresnel::{brewster_angle, critical_angle};
+use raydraft::optics::{fresnel, refract};
+
+fn close(got: f64, want: f64, tol: f64, what: &str) {
+    assert!((got - want).abs() <= tol, "{what}: got {got:.9}, expected {want} ± {tol:e}");
+}
+
+fn cos_deg(d: f64) -> f64 {
+    d.to_radians().cos()
+}
+
+#[test]
+fn normal_incidence_reflectance() {
+    // R = ((n−1)/(n+1))²: 0.04000 for n = 1.5 and 0.02006 for n = 1.33 (references §2,
+    // computed; Hecht 2017 eq. 4.67).
+    let f = fresnel(1.0, 1.5, 1.0);
+    close(f.rs, 0.04, 1e-9, "Rs n=1.5");
+    close(f.rp, 0.04, 1e-9, "Rp n=1.5");
+    let f = fresnel(1.0, 1.33, 1.0);
+    close(f.rs, 0.020059, 1e-6, "R n=1.33");
+    close(f.rs, (0.33f64 / 2.33).powi(2), 1e-12, "R n=1.33 closed form");
+}
+
+#[test]
+fn external_reflection_air_to_glass() {
+    // references §2, computed from Hecht 2017 eqs. 4.42–4.45 for air → 1.5.
+    let f = fresnel(1.0, 1.5, cos_deg(45.0));
+    close(f.rs, 0.09201, 1e-5, "Rs 45°");
+    close(f.rp, 0.00847, 1e-5, "Rp 45°");
+    close((f.rs + f.rp) / 2.0, 0.05024, 1e-5, "mean 45°");
+    close(f.ts, 0.90799, 1e-5, "Ts 45°");
+    close(f.tp, 0.99153, 1e-5, "Tp 45°");
+    for (deg, rs, rp) in [(30.0, 0.05780, 0.02525), (60.0, 0.17657, 0.00180), (80.0, 0.53859, 0.23681)] {
+        let f = fresnel(1.0, 1.5, cos_deg(deg));
+        close(f.rs, rs, 1e-5, &format!("Rs {deg}°"));
+        close(f.rp, rp, 1e-5, &format!("Rp {deg}°"));
+    }
+}
+
+#[test]
+fn internal_reflection_glass_to_air() {
+    // references §2, computed for 1.5 → air, away from the critical angle.
+    for (deg, rs, rp) in [(30.0, 0.10577, 0.00461), (40.0, 0.39052, 0.10006), (41.0, 0.53098, 0.22853)] {
+        let f = fresnel(1.5, 1.0, cos_deg(deg));
+        close(f.rs, rs, 1e-5, &format!("Rs {deg}° inside"));
+        close(f.rp, rp, 1e-5, &format!("Rp {deg}° inside"));
+    }
+    // Total internal reflection from θc = 41.8103° up: R = 1 (references §2).
+    for deg in [41.82, 45.0, 60.0, 89.9] {
+        let f = fresnel(1.5, 1.0, cos_deg(deg));
+        assert!(f.is_tir(), "{deg}° should be TIR");
+        close(f.rs, 1.0, 1e-12, "Rs TIR");
+        close(f.rp, 1.0, 1e-12, "Rp TIR");
+    }
+}
+
+#[test]
+fn agrees_with_the_sine_and_tangent_forms() {
+    // Rs = sin²(θi−θt)/sin²(θi+θt), Rp = tan²(θi−θt)/tan²(θi+θt): Smith, *Modern Optical
+    // Engineering*, 4th ed. (2008), eq. 11.1. An independent form of the same physics.
+    for n in [1.33, 1.5, 1.9, 2.4] {
+        for k in 1..90 {
+            let ti = f64::from(k).to_radians();
+            let tt = (ti.sin() / n).asin();
+            let rs = ((ti - tt).sin() / (ti + tt).sin()).powi(2);
+            let rp = ((ti - tt).tan() / (ti + tt).tan()).powi(2);
+            let f = fresnel(1.0, n, ti.cos());
+            close(f.rs, rs, 1e-12, "Rs vs sine form");
+            close(f.rp, rp, 1e-12, "Rp vs tangent form");
+        }
+    }
+}
+
+#[test]
+fn brewster_angles() {
+    // tan θB = n₂/n₁: 56.3099° air → 1.5 and 33.6901° 1.5 → air (references §2; IUPAC Gold
+    // Book, "Brewster angle").
+    close(brewster_angle(1.0, 1.5).to_degrees(), 56.3099, 1e-4, "Brewster air→glass");
+    close(brewster_angle(1.5, 1.0).to_degrees(), 33.6901, 1e-4, "Brewster glass→air");
+    close((1.5f64).atan().to_degrees(), 56.309932, 1e-6, "Brewster exact");
+    // At Brewster: Rs 0.14793, Rp 0 (references §2, computed).
+    let f = fresnel(1.0, 1.5, brewster_angle(1.0, 1.5).cos());
+    close(f.rs, 0.14793, 1e-5, "Rs at Brewster");
+    close(f.rp, 0.0, 1e-9, "Rp at Brewster");
+}
+
+#[test]
+fn critical_angles() {
+    // θc = asin(1/n): 41.8103°, 48.7535°, 48.6066° (references §3, computed).
+    for (n, want) in [(1.5, 41.8103), (1.33, 48.7535), (1.333, 48.6066)] {
+        let c = critical_angle(n, 1.0).expect("critical angle exists").to_degrees();
+        close(c, want, 1e-4, &format!("θc n={n}"));
+        // Just inside: refraction; just beyond: none.
+        let inside = fresnel(n, 1.0, (c - 0.01).to_radians().cos());
+        let beyond = fresnel(n, 1.0, (c + 0.01).to_radians().cos());
+        assert!(!inside.is_tir() && beyond.is_tir());
+    }
+    assert!(critical_angle(1.0, 1.5).is_none());
+}
+
+#[test]
+fn snell_angles_from_the_vector_form() {
+    // Air → 1.5 at 30 / 45 / 60°: 19.4712 / 28.1255 / 35.2644° (references §3, computed).
+    for (deg, want) in [(30.0, 19.4712), (45.0, 28.1255), (60.0, 35.2644)] {
+        // A ray going down onto a horizontal surface whose normal points up.
+        let d = unit((-90.0f64 + deg).to_radians());
+        let t = refract(d, Vec2::new(0.0, 1.0), 1.0, 1.5).expect("refracts");
+        let out = t.x.atan2(-t.y).to_degrees();
+        close(out, want, 1e-4, &format!("θt at {deg}°"));
+        close(t.norm(), 1.0, 1e-15, "unit length");
+    }
+    // Beyond the critical angle the vector form has no transmitted ray.
+    let d = unit((-90.0f64 + 45.0).to_radians());
+    assert!(refract(d, Vec2::new(0.0, 1.0), 1.5, 1.0).is_none());
+}
+
+#[test]
+fn power_is_conserved_at_every_angle() {
+    // R + T = 1 with the beam-width factor in T (references §2; Hecht 2017 eq. 4.65).
+    for k in 0..=900 {
+        let c = (f64::from(k) / 10.0).to_radians().cos();
+        for (n1, n2) in [(1.0, 1.5), (1.5, 1.0), (1.33, 1.52), (2.4, 1.0)] {
+            let f = fresnel(n1, n2, c);
+            close(f.rs + f.ts, 1.0, 1e-15, "s");
+            close(f.rp + f.tp, 1.0, 1e-15, "p");
+        }
+    }
+}
