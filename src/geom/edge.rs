@@ -1,7 +1,8 @@
 use super::{Aabb, Vec2, cross, perp};
 
-/// Bulges smaller than this in magnitude are treated as straight edges.
-const MIN_BULGE: f64 = 1e-12;
+/// Bulges smaller than this in magnitude are treated as straight edges (the arc then departs
+/// from its chord by less than 5·10⁻¹⁰ of the chord's length).
+const MIN_BULGE: f64 = 1e-9;
 /// Tolerance on the edge parameter so that a ray through a shared vertex hits both edges.
 const PARAM_TOL: f64 = 1e-12;
 
@@ -142,8 +143,10 @@ impl Edge {
         // the one on its bulge side. A small tolerance keeps the end points.
         let chord = self.b - self.a;
         let s = cross(chord, p - self.a);
-        let tol = PARAM_TOL * chord.norm_squared().max(arc.radius * arc.radius);
-        s * arc.side <= tol
+        // `s` is the chord length times the distance from the chord line, so the tolerance is
+        // 10⁻¹² of the chord in distance; scaling it with the radius would let nearly straight
+        // arcs accept points well beyond their ends.
+        s * arc.side <= PARAM_TOL * chord.norm_squared()
     }
 
     pub fn aabb(&self) -> Aabb {

@@ -168,7 +168,7 @@ impl Outline {
                 bulges: self.bulges.len(),
             });
         }
-        let has_arc = self.bulges.iter().any(|b| b.abs() > 1e-12);
+        let has_arc = self.bulges.iter().any(|b| b.abs() > 1e-9);
         if n < 2 || (n < 3 && !has_arc) {
             return Err(OutlineError::TooFewVertices(n));
         }

@@ -260,7 +260,11 @@ fn nest(solids: &mut [SolidInfo], warnings: &mut Vec<String>, scene: &Scene) {
             if j == k || solids[j].area < solids[k].area || (solids[j].area == solids[k].area && j > k) {
                 continue;
             }
-            if solids[j].bbox.contains(p) && solids[j].outline.contains(p) && parent.is_none_or(|q| solids[j].area < solids[q].area) {
+            if solids[j].bbox.contains(p)
+                && solids[j].outline.contains(p)
+                && parent.is_none_or(|q| solids[j].area < solids[q].area)
+                && encloses(&solids[j], &solids[k])
+            {
                 parent = Some(j);
             }
         }
@@ -291,7 +295,8 @@ fn nest(solids: &mut [SolidInfo], warnings: &mut Vec<String>, scene: &Scene) {
             }
             let overlap = inner[k].is_some_and(|p| solids[j].outline.contains(p))
                 || inner[j].is_some_and(|p| solids[k].outline.contains(p))
-                || partial_overlap(&solids[k].outline, &solids[j].outline);
+                || partial_overlap(&solids[k].outline, &solids[j].outline)
+                || partial_overlap(&solids[j].outline, &solids[k].outline);
             if overlap {
                 let name = |s: &SolidInfo| scene.objects[s.object as usize].name.clone();
                 warnings.push(format!(
@@ -302,6 +307,25 @@ fn nest(solids: &mut [SolidInfo], warnings: &mut Vec<String>, scene: &Scene) {
             }
         }
     }
+}
+
+/// Whether `outer` holds all of `inner` (checked on up to about 400 of its vertices and
+/// edge midpoints; points on the boundary count as inside, so touching faces are allowed).
+fn encloses(outer: &SolidInfo, inner: &SolidInfo) -> bool {
+    if !(outer.bbox.expanded(1e-9 * outer.bbox.extent()).contains(inner.bbox.min) && outer.bbox.expanded(1e-9 * outer.bbox.extent()).contains(inner.bbox.max)) {
+        return false;
+    }
+    let n = inner.outline.len();
+    let step = n.div_ceil(200).max(1);
+    let tol = 1e-9 * outer.bbox.extent();
+    (0..n).step_by(step).all(|i| {
+        let e = inner.outline.edge(i);
+        [e.a, e.point_at(0.5)].iter().all(|&q| outer.outline.contains(q) || near_boundary(&outer.outline, q, tol))
+    })
+}
+
+fn near_boundary(o: &Outline, q: Vec2, tol: f64) -> bool {
+    o.edges().any(|e| e.aabb().expanded(tol).contains(q) && (e.point_at(e.param_of(q)) - q).norm() <= tol)
 }
 
 fn chain_contains(solids: &[SolidInfo], outer: usize, inner: usize) -> bool {
