@@ -52,10 +52,7 @@ fn check_fdc(name: &str, [nf, nd, nc]: [f64; 3], tol: f64) {
 /// the indices is all the tolerance needs to cover; 0.01 is used.
 fn check_abbe(name: &str, expected: f64) {
     let v = abbe_number(&mat(name));
-    assert!(
-        (v - expected).abs() <= 0.01,
-        "{name}: Abbe number {v:.4}, expected {expected}"
-    );
+    assert!((v - expected).abs() <= 0.01, "{name}: Abbe number {v:.4}, expected {expected}");
 }
 
 #[test]
@@ -192,26 +189,11 @@ fn standard_air_three_equations() {
     // Edlén 1966, Metrologia 2:71; computed at C.
     check_air("Edlen", air_index_edlen_1966, LINE_C_NM, 27624.0);
     // Birch & Downs 1993, Metrologia 30:155 (corrected 1994, 31:315); computed at F.
-    check_air(
-        "Birch-Downs",
-        air_index_birch_downs_1993,
-        LINE_F_NM,
-        27935.6,
-    );
+    check_air("Birch-Downs", air_index_birch_downs_1993, LINE_F_NM, 27935.6);
     // Birch & Downs 1993, Metrologia 30:155 (corrected 1994, 31:315); computed at d.
-    check_air(
-        "Birch-Downs",
-        air_index_birch_downs_1993,
-        LINE_D_NM,
-        27717.5,
-    );
+    check_air("Birch-Downs", air_index_birch_downs_1993, LINE_D_NM, 27717.5);
     // Birch & Downs 1993, Metrologia 30:155 (corrected 1994, 31:315); computed at C.
-    check_air(
-        "Birch-Downs",
-        air_index_birch_downs_1993,
-        LINE_C_NM,
-        27625.3,
-    );
+    check_air("Birch-Downs", air_index_birch_downs_1993, LINE_C_NM, 27625.3);
 
     // The library's air is the same Ciddor equation, tabulated relative to vacuum.
     let air = mat("air");
@@ -244,11 +226,7 @@ fn glass_absolute_index_includes_air() {
     let abs = silica.index_abs(LINE_D_NM);
     assert!((abs - rel * air_index_abs(LINE_D_NM)).abs() < 1e-15);
     // The difference is about 4e-4, as the reference notes warn.
-    assert!(
-        (abs - rel - 4.04e-4).abs() < 1e-5,
-        "abs - rel = {}",
-        abs - rel
-    );
+    assert!((abs - rel - 4.04e-4).abs() < 1e-5, "abs - rel = {}", abs - rel);
 }
 
 #[test]
@@ -270,11 +248,7 @@ fn constant_material() {
 fn formula_forms_and_invalid_wavelengths() {
     // n = a + b/λ² + c/λ⁴ at λ = 0.5 µm: 1.5 + 0.004/0.25 + 0.0001/0.0625 = 1.5176.
     let cauchy = Material {
-        dispersion: Dispersion::Cauchy {
-            a: 1.5,
-            b_um2: 0.004,
-            c_um4: 0.0001,
-        },
+        dispersion: Dispersion::Cauchy { a: 1.5, b_um2: 0.004, c_um4: 0.0001 },
         ..Material::constant("cauchy", 1.0)
     };
     check(&cauchy, 500.0, 1.5176, 1e-12);
@@ -282,14 +256,8 @@ fn formula_forms_and_invalid_wavelengths() {
         assert!(cauchy.formula_index(bad).is_nan(), "wavelength {bad}");
     }
     // Both Sellmeier conventions agree when Cᵢ(S2) = Cᵢ(S1)².
-    let s1 = Dispersion::SellmeierWavelength {
-        c0: 0.1,
-        terms: vec![(0.7, 0.07), (0.9, 9.9)],
-    };
-    let s2 = Dispersion::SellmeierSquared {
-        c0: 0.1,
-        terms: vec![(0.7, 0.07 * 0.07), (0.9, 9.9 * 9.9)],
-    };
+    let s1 = Dispersion::SellmeierWavelength { c0: 0.1, terms: vec![(0.7, 0.07), (0.9, 9.9)] };
+    let s2 = Dispersion::SellmeierSquared { c0: 0.1, terms: vec![(0.7, 0.07 * 0.07), (0.9, 9.9 * 9.9)] };
     for nm in [300.0, 600.0, 1200.0] {
         assert!((s1.index(nm) - s2.index(nm)).abs() < 1e-14);
     }
@@ -338,8 +306,7 @@ fn library_names_resolve_and_lookup_is_forgiving() {
 fn library_serde_round_trip() {
     for m in library() {
         let text = serde_json::to_string(&m).unwrap_or_else(|e| panic!("{}: {e}", m.name));
-        let back: Material =
-            serde_json::from_str(&text).unwrap_or_else(|e| panic!("{}: {e}", m.name));
+        let back: Material = serde_json::from_str(&text).unwrap_or_else(|e| panic!("{}: {e}", m.name));
         assert_eq!(back, m);
     }
 }

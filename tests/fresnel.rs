@@ -37,7 +37,7 @@ fn external_reflection_air_to_glass() {
     let f = fresnel(1.0, 1.5, cos_deg(45.0));
     close(f.rs, 0.09201, 1e-5, "Rs 45°");
     close(f.rp, 0.00847, 1e-5, "Rp 45°");
-    close((f.rs + f.rp) / 2.0, 0.05024, 1e-5, "mean 45°");
+    close(f.rs.midpoint(f.rp), 0.05024, 1e-5, "mean 45°");
     close(f.ts, 0.90799, 1e-5, "Ts 45°");
     close(f.tp, 0.99153, 1e-5, "Tp 45°");
     for (deg, rs, rp) in [(30.0, 0.05780, 0.02525), (60.0, 0.17657, 0.00180), (80.0, 0.53859, 0.23681)] {

@@ -22,17 +22,7 @@ fn prism_scene(n: f64, apex_deg: f64, incidence_deg: f64) -> (raydraft::scene::S
     // left face, arriving at `incidence_deg` from the face's normal.
     let mut s = scene();
     let side = 20.0;
-    solid(
-        &mut s,
-        "prism",
-        Shape::Prism {
-            position: (0.0, 0.0),
-            apex_deg,
-            side,
-            rotation_deg: 0.0,
-        },
-        n,
-    );
+    solid(&mut s, "prism", Shape::Prism { position: (0.0, 0.0), apex_deg, side, rotation_deg: 0.0 }, n);
     let half = apex_deg.to_radians() / 2.0;
     let left = Vec2::new(-side * half.sin(), 0.0);
     let apex = Vec2::new(0.0, side * half.cos());
@@ -80,11 +70,11 @@ fn prism_minimum_deviation_by_sweeping_incidence() {
                 lo = a;
             }
         }
-        let inc_min = (lo + hi) / 2.0;
+        let inc_min = lo.midpoint(hi);
         let found = dev(inc_min);
         assert!((found - expected).abs() < 1e-6, "n={n} A={apex}: D_min {found} vs {expected}");
         // At minimum deviation the ray crosses symmetrically: θi = (D_min + A)/2.
-        assert!((inc_min - (expected + apex) / 2.0).abs() < 1e-3, "incidence at minimum {inc_min}");
+        assert!((inc_min - expected.midpoint(apex)).abs() < 1e-3, "incidence at minimum {inc_min}");
     }
 }
 
@@ -99,17 +89,7 @@ fn right_angle_prism_returns_the_beam_by_two_tirs() {
     assert!((limit - 4.7876).abs() < 1e-4, "limit {limit}");
     for alpha in [0.0, 1.0, -2.5, 4.0, -4.7] {
         let mut s = scene();
-        solid(
-            &mut s,
-            "prism",
-            Shape::Prism {
-                position: (0.0, 0.0),
-                apex_deg: 90.0,
-                side: 20.0,
-                rotation_deg: 0.0,
-            },
-            n,
-        );
+        solid(&mut s, "prism", Shape::Prism { position: (0.0, 0.0), apex_deg: 90.0, side: 20.0, rotation_deg: 0.0 }, n);
         // Up into the hypotenuse (the base), tilted by α, aimed left of centre.
         let dir_deg = 90.0 - alpha;
         let d = raydraft::geom::unit(f64::to_radians(dir_deg));
@@ -126,17 +106,7 @@ fn right_angle_prism_returns_the_beam_by_two_tirs() {
     }
     // Beyond the limit one reflection is no longer total.
     let mut s = scene();
-    solid(
-        &mut s,
-        "prism",
-        Shape::Prism {
-            position: (0.0, 0.0),
-            apex_deg: 90.0,
-            side: 20.0,
-            rotation_deg: 0.0,
-        },
-        n,
-    );
+    solid(&mut s, "prism", Shape::Prism { position: (0.0, 0.0), apex_deg: 90.0, side: 20.0, rotation_deg: 0.0 }, n);
     let dir_deg: f64 = 90.0 - 6.0;
     let d = raydraft::geom::unit(dir_deg.to_radians());
     let start = Vec2::new(-4.0, 0.0) - d * 10.0;
@@ -185,7 +155,7 @@ fn plate_shifts_a_ray_sideways() {
         solid(&mut s, "plate", rect(0.0, -5.0, 400.0, 10.0), 1.5);
         let d = raydraft::geom::unit((-90.0 + deg).to_radians());
         let start = Vec2::new(0.0, 0.0) - d * 20.0;
-        beam(&mut s, (start.x, start.y), 0.0, (-90.0 + deg), 1, Polarization::Unpolarized);
+        beam(&mut s, (start.x, start.y), 0.0, -90.0 + deg, 1, Polarization::Unpolarized);
         let t = run(&s, &config(&s, TraceMode::Principal));
         let ev = t.events_of(&t.rays[0]);
         let exit = ev.iter().filter(|e| e.kind == EventKind::Refract).nth(1).expect("second refraction").point;
@@ -228,14 +198,7 @@ fn thick_lenses_match_the_lensmaker_equation() {
         solid(
             &mut s,
             "lens",
-            Shape::Lens {
-                position: (0.0, 0.0),
-                diameter: 20.0,
-                thickness: d,
-                r1,
-                r2,
-                rotation_deg: 0.0,
-            },
+            Shape::Lens { position: (0.0, 0.0), diameter: 20.0, thickness: d, r1, r2, rotation_deg: 0.0 },
             1.5,
         );
         s.settings.margin = 400.0;

@@ -6,12 +6,10 @@ mod common;
 
 use common::*;
 use raydraft::geom::{Edge, Vec2};
-use raydraft::scene::{
-    Detector, Emission, Mirror, ObjectKind, Path, PointSource, Scene, Shape, Splitter, TraceMode,
-};
+use raydraft::scene::{Detector, Emission, Mirror, ObjectKind, Path, PointSource, Scene, Shape, Splitter, TraceMode};
 use raydraft::trace::{Compiled, TraceConfig, trace};
 
-/// SplitMix64 (Steele, Lea & Flood 2014), for reproducible test data.
+/// `SplitMix64` (Steele, Lea & Flood 2014), for reproducible test data.
 struct Rng(u64);
 impl Rng {
     fn f(&mut self) -> f64 {
@@ -93,26 +91,11 @@ fn random_scene(rng: &mut Rng) -> Scene {
     for _ in 0..rng.below(4) {
         let a = (rng.range(-15.0, 45.0), rng.range(-15.0, 45.0));
         let b = (a.0 + rng.range(-15.0, 15.0), a.1 + rng.range(-15.0, 15.0));
-        let path = Path {
-            points: vec![a, b],
-            bulges: vec![if rng.f() < 0.3 { rng.range(-0.5, 0.5) } else { 0.0 }],
-        };
+        let path = Path { points: vec![a, b], bulges: vec![if rng.f() < 0.3 { rng.range(-0.5, 0.5) } else { 0.0 }] };
         let kind = match rng.below(3) {
-            0 => ObjectKind::Mirror(Mirror {
-                path,
-                reflectance: rng.range(0.5, 1.0),
-                one_sided: rng.f() < 0.5,
-            }),
-            1 => ObjectKind::Splitter(Splitter {
-                path,
-                reflectance: 0.4,
-                transmittance: 0.5,
-            }),
-            _ => ObjectKind::Detector(Detector {
-                path,
-                bins: 10,
-                angle_bins: 10,
-            }),
+            0 => ObjectKind::Mirror(Mirror { path, reflectance: rng.range(0.5, 1.0), one_sided: rng.f() < 0.5 }),
+            1 => ObjectKind::Splitter(Splitter { path, reflectance: 0.4, transmittance: 0.5 }),
+            _ => ObjectKind::Detector(Detector { path, bins: 10, angle_bins: 10 }),
         };
         s.add("thin", kind);
     }
@@ -201,10 +184,7 @@ fn rays_through_vertices_and_along_edges_stay_consistent() {
     solid(
         &mut s,
         "diamond",
-        Shape::Outline {
-            points: vec![(30.0, -5.0), (35.0, 0.0), (30.0, 5.0), (25.0, 0.0)],
-            bulges: vec![],
-        },
+        Shape::Outline { points: vec![(30.0, -5.0), (35.0, 0.0), (30.0, 5.0), (25.0, 0.0)], bulges: vec![] },
         1.7,
     );
     // Diagonal through two corners of the square, horizontal through the diamond's side

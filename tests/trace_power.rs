@@ -126,12 +126,7 @@ fn a_principal_path_traced_backwards_retraces_itself() {
     solid(
         &mut s,
         "prism",
-        raydraft::scene::Shape::Prism {
-            position: (25.0, -10.0),
-            apex_deg: 50.0,
-            side: 25.0,
-            rotation_deg: 5.0,
-        },
+        raydraft::scene::Shape::Prism { position: (25.0, -10.0), apex_deg: 50.0, side: 25.0, rotation_deg: 5.0 },
         1.7,
     );
     beam(&mut s, (-30.0, 0.0), 6.0, 3.0, 7, Polarization::Unpolarized);

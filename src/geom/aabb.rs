@@ -14,10 +14,8 @@ impl Default for Aabb {
 }
 
 impl Aabb {
-    pub const EMPTY: Self = Self {
-        min: Vec2::new(f64::INFINITY, f64::INFINITY),
-        max: Vec2::new(f64::NEG_INFINITY, f64::NEG_INFINITY),
-    };
+    pub const EMPTY: Self =
+        Self { min: Vec2::new(f64::INFINITY, f64::INFINITY), max: Vec2::new(f64::NEG_INFINITY, f64::NEG_INFINITY) };
 
     pub fn from_points(points: impl IntoIterator<Item = Vec2>) -> Self {
         let mut b = Self::EMPTY;
@@ -34,10 +32,7 @@ impl Aabb {
 
     #[must_use]
     pub fn union(&self, other: &Self) -> Self {
-        Self {
-            min: self.min.inf(&other.min),
-            max: self.max.sup(&other.max),
-        }
+        Self { min: self.min.inf(&other.min), max: self.max.sup(&other.max) }
     }
 
     pub fn is_empty(&self) -> bool {
@@ -64,10 +59,7 @@ impl Aabb {
 
     #[must_use]
     pub fn expanded(&self, margin: f64) -> Self {
-        Self {
-            min: self.min - Vec2::new(margin, margin),
-            max: self.max + Vec2::new(margin, margin),
-        }
+        Self { min: self.min - Vec2::new(margin, margin), max: self.max + Vec2::new(margin, margin) }
     }
 
     pub fn contains(&self, p: Vec2) -> bool {
@@ -75,10 +67,7 @@ impl Aabb {
     }
 
     pub fn overlaps(&self, other: &Self) -> bool {
-        self.min.x <= other.max.x
-            && other.min.x <= self.max.x
-            && self.min.y <= other.max.y
-            && other.min.y <= self.max.y
+        self.min.x <= other.max.x && other.min.x <= self.max.x && self.min.y <= other.max.y && other.min.y <= self.max.y
     }
 
     /// Entry and exit distances of the ray `origin + t·dir` through the box (slab test),

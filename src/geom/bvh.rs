@@ -46,15 +46,7 @@ impl Prim {
             Some(arc) => (arc.center, arc.radius, arc.side),
             None => (Vec2::zeros(), 0.0, 0.0),
         };
-        Self {
-            a: e.a,
-            d,
-            n,
-            center,
-            radius,
-            side,
-            id,
-        }
+        Self { a: e.a, d, n, center, radius, side, id }
     }
 
     #[inline]
@@ -64,7 +56,7 @@ impl Prim {
         s * self.side <= 1e-12 * self.d.norm_squared()
     }
 
-    /// Calls `f` with every crossing in (t_min, t_max). `from_self`: the ray starts on this
+    /// Calls `f` with every crossing in `(t_min, t_max)`. `from_self`: the ray starts on this
     /// edge, so only a second crossing of an arc can count.
     #[inline]
     fn cast(&self, o: Vec2, dir: Vec2, t_min: f64, t_max: f64, from_self: bool, mut f: impl FnMut(f64, Vec2)) {
@@ -137,11 +129,7 @@ impl Bvh {
         let mut idx: Vec<u32> = (0..edges.len() as u32).collect();
         let mut nodes = Vec::with_capacity(2 * edges.len() / LEAF_SIZE + 1);
         let root_bb = boxes.iter().fold(Aabb::EMPTY, |acc, b| acc.union(b));
-        nodes.push(Node {
-            bb: root_bb,
-            first: 0,
-            count: edges.len() as u32,
-        });
+        nodes.push(Node { bb: root_bb, first: 0, count: edges.len() as u32 });
         if !edges.is_empty() {
             Self::split(&mut nodes, 0, &mut idx, &boxes, &centers);
         }
@@ -222,11 +210,7 @@ impl Bvh {
         let child = nodes.len();
         for (start, n) in [(first, mid), (first + mid, count - mid)] {
             let bb = idx[start..start + n].iter().fold(Aabb::EMPTY, |acc, &i| acc.union(&boxes[i as usize]));
-            nodes.push(Node {
-                bb,
-                first: start as u32,
-                count: n as u32,
-            });
+            nodes.push(Node { bb, first: start as u32, count: n as u32 });
         }
         nodes[ni].first = child as u32;
         nodes[ni].count = 0;
@@ -240,7 +224,17 @@ impl Bvh {
     /// straight one is skipped, an arc can only be hit again at its far crossing.
     ///
     /// `hits` is cleared and filled in order of distance.
-    pub fn cast_group(&self, origin: Vec2, dir: Vec2, t_min: f64, t_max: f64, group_eps: f64, on_edges: &[u32], hits: &mut Vec<BvhHit>) {
+    #[allow(clippy::too_many_arguments)] // the query's inputs; a struct would only rename them
+    pub fn cast_group(
+        &self,
+        origin: Vec2,
+        dir: Vec2,
+        t_min: f64,
+        t_max: f64,
+        group_eps: f64,
+        on_edges: &[u32],
+        hits: &mut Vec<BvhHit>,
+    ) {
         hits.clear();
         if self.prims.is_empty() {
             return;
@@ -260,12 +254,7 @@ impl Bvh {
                 for p in &self.prims[first..first + n.count as usize] {
                     let from_self = !on_edges.is_empty() && on_edges.contains(&p.id);
                     p.cast(origin, dir, t_min, limit, from_self, |t, normal| {
-                        hits.push(BvhHit {
-                            t,
-                            point: origin + dir * t,
-                            normal,
-                            id: p.id,
-                        });
+                        hits.push(BvhHit { t, point: origin + dir * t, normal, id: p.id });
                     });
                 }
                 if let Some(best) = hits.iter().map(|h| h.t).min_by(f64::total_cmp) {
@@ -333,7 +322,7 @@ fn half_perimeter(b: &Aabb) -> f64 {
 mod tests {
     use super::*;
 
-    /// A pseudo-random generator for test data (SplitMix64).
+    /// A pseudo-random generator for test data (`SplitMix64`).
     fn rng(state: &mut u64) -> f64 {
         *state = state.wrapping_add(0x9E37_79B9_7F4A_7C15);
         let mut z = *state;
@@ -358,11 +347,8 @@ mod tests {
         for _ in 0..2000 {
             let o = Vec2::new(rng(&mut s) * 120.0 - 10.0, rng(&mut s) * 120.0 - 10.0);
             let d = super::super::unit(rng(&mut s) * std::f64::consts::TAU);
-            let brute = edges
-                .iter()
-                .filter_map(|e| e.cast(o, d, 1e-9, f64::INFINITY))
-                .map(|h| h.t)
-                .min_by(f64::total_cmp);
+            let brute =
+                edges.iter().filter_map(|e| e.cast(o, d, 1e-9, f64::INFINITY)).map(|h| h.t).min_by(f64::total_cmp);
             let got = bvh.cast(o, d, 1e-9, f64::INFINITY).map(|h| h.t);
             match (brute, got) {
                 (None, None) => {}

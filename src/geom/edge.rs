@@ -69,11 +69,7 @@ impl Edge {
         let mid = (self.a + self.b) * 0.5;
         let apex = mid - left * sagitta;
         let center = apex + left * bulge.signum() * radius;
-        Some(ArcGeom {
-            center,
-            radius,
-            side: bulge.signum(),
-        })
+        Some(ArcGeom { center, radius, side: bulge.signum() })
     }
 
     /// Included angle of the arc in radians (signed like the bulge); 0 for a segment.
@@ -198,14 +194,18 @@ impl Edge {
             return None;
         }
         let len = e.norm();
-        Some(EdgeHit {
-            t,
-            point: origin + dir * t,
-            normal: Vec2::new(e.y, -e.x) / len,
-        })
+        Some(EdgeHit { t, point: origin + dir * t, normal: Vec2::new(e.y, -e.x) / len })
     }
 
-    fn cast_arc(&self, arc: &ArcGeom, origin: Vec2, dir: Vec2, t_min: f64, t_max: f64, from_self: bool) -> Option<EdgeHit> {
+    fn cast_arc(
+        &self,
+        arc: &ArcGeom,
+        origin: Vec2,
+        dir: Vec2,
+        t_min: f64,
+        t_max: f64,
+        from_self: bool,
+    ) -> Option<EdgeHit> {
         let oc = origin - arc.center;
         let b = dir.dot(&oc);
         let c = oc.norm_squared() - arc.radius * arc.radius;
@@ -227,11 +227,7 @@ impl Edge {
             if t > t_min && t < t_max {
                 let p = origin + dir * t;
                 if self.arc_contains(arc, p) {
-                    return Some(EdgeHit {
-                        t,
-                        point: p,
-                        normal: (p - arc.center) / arc.radius * arc.side,
-                    });
+                    return Some(EdgeHit { t, point: p, normal: (p - arc.center) / arc.radius * arc.side });
                 }
             }
         }
@@ -275,10 +271,6 @@ impl Edge {
     /// The edge run backwards.
     #[must_use]
     pub fn reversed(&self) -> Self {
-        Self {
-            a: self.b,
-            b: self.a,
-            bulge: -self.bulge,
-        }
+        Self { a: self.b, b: self.a, bulge: -self.bulge }
     }
 }

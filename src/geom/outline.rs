@@ -47,11 +47,7 @@ impl Outline {
     /// Edge `i`, from vertex `i` to vertex `i + 1` (wrapping).
     pub fn edge(&self, i: usize) -> Edge {
         let n = self.vertices.len();
-        Edge {
-            a: self.vertices[i],
-            b: self.vertices[(i + 1) % n],
-            bulge: self.bulges.get(i).copied().unwrap_or(0.0),
-        }
+        Edge { a: self.vertices[i], b: self.vertices[(i + 1) % n], bulge: self.bulges.get(i).copied().unwrap_or(0.0) }
     }
 
     pub fn edges(&self) -> impl Iterator<Item = Edge> + '_ {
@@ -163,10 +159,7 @@ impl Outline {
             return Err(OutlineError::TooManyVertices(n));
         }
         if self.bulges.len() != n {
-            return Err(OutlineError::BulgeCount {
-                vertices: n,
-                bulges: self.bulges.len(),
-            });
+            return Err(OutlineError::BulgeCount { vertices: n, bulges: self.bulges.len() });
         }
         let has_arc = self.bulges.iter().any(|b| b.abs() > 1e-9);
         if n < 2 || (n < 3 && !has_arc) {
@@ -280,10 +273,7 @@ mod tests {
     #[test]
     fn circle_from_two_half_arcs() {
         // Two half circles of radius 1 (bulge 1 each, counter-clockwise): area π.
-        let c = Outline {
-            vertices: vec![Vec2::new(-1.0, 0.0), Vec2::new(1.0, 0.0)],
-            bulges: vec![1.0, 1.0],
-        };
+        let c = Outline { vertices: vec![Vec2::new(-1.0, 0.0), Vec2::new(1.0, 0.0)], bulges: vec![1.0, 1.0] };
         assert!((c.signed_area() - std::f64::consts::PI).abs() < 1e-12);
         assert!(c.contains(Vec2::new(0.0, 0.9)));
         assert!(c.contains(Vec2::new(0.0, -0.9)));
@@ -295,7 +285,8 @@ mod tests {
 
     #[test]
     fn bow_tie_is_rejected() {
-        let b = Outline::polygon(vec![Vec2::new(0.0, 0.0), Vec2::new(3.0, 3.0), Vec2::new(3.0, 0.0), Vec2::new(0.0, 1.0)]);
+        let b =
+            Outline::polygon(vec![Vec2::new(0.0, 0.0), Vec2::new(3.0, 3.0), Vec2::new(3.0, 0.0), Vec2::new(0.0, 1.0)]);
         assert!(matches!(b.validate(), Err(OutlineError::SelfIntersecting(..))));
     }
 

@@ -42,14 +42,7 @@ pub fn fresnel(n1: f64, n2: f64, cos_i: f64) -> Fresnel {
     let ratio = n1 / n2;
     let sin_t2 = ratio * ratio * sin_i2;
     if !(sin_t2 < 1.0) {
-        return Fresnel {
-            rs: 1.0,
-            rp: 1.0,
-            ts: 0.0,
-            tp: 0.0,
-            cos_i,
-            cos_t: None,
-        };
+        return Fresnel { rs: 1.0, rp: 1.0, ts: 0.0, tp: 0.0, cos_i, cos_t: None };
     }
     let cos_t = (1.0 - sin_t2).sqrt();
     let (a, b) = (n1 * cos_i, n2 * cos_t);
@@ -63,14 +56,7 @@ pub fn fresnel(n1: f64, n2: f64, cos_i: f64) -> Fresnel {
     // way it equals 1 − R algebraically: 4ab/(a+b)² = 1 − ((a−b)/(a+b))².
     let ts = if a + b > 0.0 { 4.0 * a * b / ((a + b) * (a + b)) } else { 1.0 };
     let tp = if c + d > 0.0 { 4.0 * c * d / ((c + d) * (c + d)) } else { 1.0 };
-    Fresnel {
-        rs,
-        rp,
-        ts,
-        tp,
-        cos_i,
-        cos_t: Some(cos_t),
-    }
+    Fresnel { rs, rp, ts, tp, cos_i, cos_t: Some(cos_t) }
 }
 
 /// Mirror reflection of direction `d` about a surface with unit normal `n` (either side).

@@ -87,11 +87,7 @@ impl Dispersion {
                 1.0 + sum
             }
         };
-        if wavelength_nm.is_finite() && wavelength_nm > 0.0 {
-            n
-        } else {
-            f64::NAN
-        }
+        if wavelength_nm.is_finite() && wavelength_nm > 0.0 { n } else { f64::NAN }
     }
 }
 
@@ -165,10 +161,7 @@ const CIDDOR_STANDARD_AIR: [(f64, f64); 2] = [(0.057_921_05, 238.0185), (0.001_6
 /// Refractive index of standard air (Ciddor 1996: dry, 15 °C, 101 325 Pa, 450 ppm CO₂),
 /// absolute.
 pub fn air_index_abs(wavelength_nm: f64) -> f64 {
-    Dispersion::Gas {
-        terms: CIDDOR_STANDARD_AIR.to_vec(),
-    }
-    .index(wavelength_nm)
+    Dispersion::Gas { terms: CIDDOR_STANDARD_AIR.to_vec() }.index(wavelength_nm)
 }
 
 /// The Edlén form (n − 1)·10⁸ = A + B/(130 − σ²) + C/(38.9 − σ²) with σ = 1/λ in µm⁻¹,
@@ -235,20 +228,12 @@ fn reference_media() -> Vec<Material> {
     vec![
         entry(
             "air",
-            Dispersion::Gas {
-                terms: CIDDOR_STANDARD_AIR.to_vec(),
-            },
+            Dispersion::Gas { terms: CIDDOR_STANDARD_AIR.to_vec() },
             Vacuum,
             (230.0, 1690.0),
             "Ciddor 1996, Appl. Opt. 35:1566 (standard air: dry, 15 °C, 101 325 Pa, 450 ppm CO2)",
         ),
-        entry(
-            "vacuum",
-            Dispersion::Constant { n: 1.0 },
-            Vacuum,
-            CONSTANT_VALID_NM,
-            "",
-        ),
+        entry("vacuum", Dispersion::Constant { n: 1.0 }, Vacuum, CONSTANT_VALID_NM, ""),
         entry(
             "water",
             Dispersion::SellmeierSquared {
@@ -276,11 +261,7 @@ fn crystals_and_glasses() -> Vec<Material> {
             "fused-silica",
             Dispersion::SellmeierWavelength {
                 c0: 0.0,
-                terms: vec![
-                    (0.6961663, 0.0684043),
-                    (0.4079426, 0.1162414),
-                    (0.8974794, 9.896161),
-                ],
+                terms: vec![(0.6961663, 0.0684043), (0.4079426, 0.1162414), (0.8974794, 9.896161)],
             },
             Air,
             (210.0, 6700.0),
@@ -290,11 +271,7 @@ fn crystals_and_glasses() -> Vec<Material> {
             "sapphire-o",
             Dispersion::SellmeierWavelength {
                 c0: 0.0,
-                terms: vec![
-                    (1.4313493, 0.0726631),
-                    (0.65054713, 0.1193242),
-                    (5.3414021, 18.028251),
-                ],
+                terms: vec![(1.4313493, 0.0726631), (0.65054713, 0.1193242), (5.3414021, 18.028251)],
             },
             Air,
             (200.0, 5500.0),
@@ -305,11 +282,7 @@ fn crystals_and_glasses() -> Vec<Material> {
             "calcium-fluoride",
             Dispersion::SellmeierWavelength {
                 c0: 0.0,
-                terms: vec![
-                    (0.5675888, 0.050263605),
-                    (0.4710914, 0.1003909),
-                    (3.8484723, 34.649040),
-                ],
+                terms: vec![(0.5675888, 0.050263605), (0.4710914, 0.1003909), (3.8484723, 34.649040)],
             },
             Air,
             (230.0, 9700.0),
@@ -362,30 +335,21 @@ fn polymers() -> Vec<Material> {
         ),
         entry(
             "pmma-sultanova",
-            Dispersion::SellmeierSquared {
-                c0: 0.0,
-                terms: vec![(1.1819, 0.011313)],
-            },
+            Dispersion::SellmeierSquared { c0: 0.0, terms: vec![(1.1819, 0.011313)] },
             Air,
             sultanova_nm,
             sultanova_source,
         ),
         entry(
             "polycarbonate",
-            Dispersion::SellmeierSquared {
-                c0: 0.0,
-                terms: vec![(1.4182, 0.021304)],
-            },
+            Dispersion::SellmeierSquared { c0: 0.0, terms: vec![(1.4182, 0.021304)] },
             Air,
             sultanova_nm,
             sultanova_source,
         ),
         entry(
             "polystyrene",
-            Dispersion::SellmeierSquared {
-                c0: 0.0,
-                terms: vec![(1.4435, 0.020216)],
-            },
+            Dispersion::SellmeierSquared { c0: 0.0, terms: vec![(1.4435, 0.020216)] },
             Air,
             sultanova_nm,
             sultanova_source,

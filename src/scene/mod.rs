@@ -168,10 +168,7 @@ pub struct Path {
 
 impl Path {
     pub fn segment(a: Point, b: Point) -> Self {
-        Self {
-            points: vec![a, b],
-            bulges: Vec::new(),
-        }
+        Self { points: vec![a, b], bulges: Vec::new() }
     }
 
     /// The pieces as edges.
@@ -270,12 +267,7 @@ pub struct Emission {
 
 impl Emission {
     pub fn new(rays: u32, power_w: f64, nm: f64) -> Self {
-        Self {
-            rays,
-            power_w,
-            spectrum: vec![Line { nm, weight: 1.0 }],
-            polarization: Polarization::Unpolarized,
-        }
+        Self { rays, power_w, spectrum: vec![Line { nm, weight: 1.0 }], polarization: Polarization::Unpolarized }
     }
 }
 
@@ -334,11 +326,7 @@ impl Scene {
     /// Adds an object with a fresh id and returns the id.
     pub fn add(&mut self, name: &str, kind: ObjectKind) -> u64 {
         let id = self.next_id();
-        self.objects.push(Object {
-            id,
-            name: name.to_owned(),
-            kind,
-        });
+        self.objects.push(Object { id, name: name.to_owned(), kind });
         id
     }
 
@@ -352,11 +340,7 @@ impl Scene {
 
     /// Looks a material up: the scene's own first, then the built-in library.
     pub fn material(&self, name: &str) -> Option<Material> {
-        self.materials
-            .iter()
-            .find(|m| m.name == name)
-            .cloned()
-            .or_else(|| crate::optics::library_material(name))
+        self.materials.iter().find(|m| m.name == name).cloned().or_else(|| crate::optics::library_material(name))
     }
 
     /// The outline of every solid, in object order, with its object index (or the reason

@@ -122,6 +122,7 @@ impl Shape {
     /// The closed outline of the shape, counter-clockwise, or what is wrong with the
     /// parameters. The outline is not checked for crossing edges here; see
     /// [`Outline::validate`].
+    #[allow(clippy::too_many_lines)] // one arm per primitive
     pub fn outline(&self) -> Result<Outline, String> {
         let (verts, bulges, position, rotation_deg) = match self {
             Self::Outline { points, bulges } => {
@@ -135,24 +136,13 @@ impl Shape {
                 let b = if bulges.is_empty() { vec![0.0; points.len()] } else { bulges.clone() };
                 (points.iter().map(|&p| to_vec(p)).collect(), b, (0.0, 0.0), 0.0)
             }
-            Self::Rectangle {
-                position,
-                width,
-                height,
-                rotation_deg,
-            } => {
+            Self::Rectangle { position, width, height, rotation_deg } => {
                 positive(&[("width", *width), ("height", *height)])?;
                 let (w, h) = (width / 2.0, height / 2.0);
                 let v = vec![Vec2::new(-w, -h), Vec2::new(w, -h), Vec2::new(w, h), Vec2::new(-w, h)];
                 (v, vec![0.0; 4], *position, *rotation_deg)
             }
-            Self::Wedge {
-                position,
-                length,
-                thickness_start,
-                thickness_end,
-                rotation_deg,
-            } => {
+            Self::Wedge { position, length, thickness_start, thickness_end, rotation_deg } => {
                 positive(&[("length", *length)])?;
                 if !(*thickness_start >= 0.0 && *thickness_end >= 0.0 && thickness_start + thickness_end > 0.0) {
                     return Err("a wedge needs thicknesses that are not negative and not both zero".into());
@@ -167,12 +157,7 @@ impl Shape {
                 let n = v.len();
                 (v, vec![0.0; n], *position, *rotation_deg)
             }
-            Self::Prism {
-                position,
-                apex_deg,
-                side,
-                rotation_deg,
-            } => {
+            Self::Prism { position, apex_deg, side, rotation_deg } => {
                 positive(&[("side", *side)])?;
                 if !(*apex_deg > 0.0 && *apex_deg < 180.0) {
                     return Err(format!("the apex angle must be between 0° and 180°, it is {apex_deg}°"));
@@ -181,14 +166,7 @@ impl Shape {
                 let (b, h) = (side * half.sin(), side * half.cos());
                 (vec![Vec2::new(-b, 0.0), Vec2::new(b, 0.0), Vec2::new(0.0, h)], vec![0.0; 3], *position, *rotation_deg)
             }
-            Self::Lens {
-                position,
-                diameter,
-                thickness,
-                r1,
-                r2,
-                rotation_deg,
-            } => {
+            Self::Lens { position, diameter, thickness, r1, r2, rotation_deg } => {
                 let (v, b) = lens(*diameter, *thickness, *r1, *r2)?;
                 (v, b, *position, *rotation_deg)
             }
@@ -196,15 +174,7 @@ impl Shape {
                 positive(&[("radius", *radius)])?;
                 (vec![Vec2::new(-radius, 0.0), Vec2::new(*radius, 0.0)], vec![1.0, 1.0], *position, 0.0)
             }
-            Self::Pipe {
-                position,
-                width,
-                length_in,
-                bend_radius,
-                bend_deg,
-                length_out,
-                rotation_deg,
-            } => {
+            Self::Pipe { position, width, length_in, bend_radius, bend_deg, length_out, rotation_deg } => {
                 let (v, b) = pipe(*width, *length_in, *bend_radius, *bend_deg, *length_out)?;
                 (v, b, *position, *rotation_deg)
             }
@@ -250,10 +220,7 @@ impl Shape {
     /// The same solid as a free outline (a primitive loses its parameters).
     pub fn to_free(&self) -> Result<Shape, String> {
         let o = self.outline()?;
-        Ok(Shape::Outline {
-            points: o.vertices.iter().map(|v| (v.x, v.y)).collect(),
-            bulges: o.bulges,
-        })
+        Ok(Shape::Outline { points: o.vertices.iter().map(|v| (v.x, v.y)).collect(), bulges: o.bulges })
     }
 
     /// The reference point (where the shape sits), for moving it.
@@ -325,7 +292,10 @@ fn lens(diameter: f64, thickness: f64, r1: f64, r2: f64) -> Result<(Vec<Vec2>, V
             return Err(format!("{name} must be a finite number (0 for a flat surface)"));
         }
         if r != 0.0 && r.abs() < h {
-            return Err(format!("|{name}| = {} mm is smaller than half the diameter ({h} mm); the surface cannot reach the rim", r.abs()));
+            return Err(format!(
+                "|{name}| = {} mm is smaller than half the diameter ({h} mm); the surface cannot reach the rim",
+                r.abs()
+            ));
         }
     }
     let x1 = -thickness / 2.0 + sag(r1, h);
@@ -343,7 +313,13 @@ fn lens(diameter: f64, thickness: f64, r1: f64, r2: f64) -> Result<(Vec<Vec2>, V
     Ok((v, vec![b1, 0.0, b2, 0.0]))
 }
 
-fn pipe(width: f64, length_in: f64, bend_radius: f64, bend_deg: f64, length_out: f64) -> Result<(Vec<Vec2>, Vec<f64>), String> {
+fn pipe(
+    width: f64,
+    length_in: f64,
+    bend_radius: f64,
+    bend_deg: f64,
+    length_out: f64,
+) -> Result<(Vec<Vec2>, Vec<f64>), String> {
     positive(&[("width", width)])?;
     for (name, v) in [("length_in", length_in), ("length_out", length_out)] {
         if !(v.is_finite() && v >= 0.0) {
@@ -388,7 +364,7 @@ fn pipe(width: f64, length_in: f64, bend_radius: f64, bend_deg: f64, length_out:
         push(radial(ri, 0.0), 0.0);
         push(Vec2::new(0.0, w), 0.0);
         // Drop repeated points of zero-length runs.
-        dedup(v, b)
+        dedup(&v, &b)
     };
     if bend_deg < 0.0 {
         // Mirror in y; the caller turns the outline back to counter-clockwise.
@@ -398,7 +374,7 @@ fn pipe(width: f64, length_in: f64, bend_radius: f64, bend_deg: f64, length_out:
     }
 }
 
-fn dedup(v: Vec<Vec2>, b: Vec<f64>) -> (Vec<Vec2>, Vec<f64>) {
+fn dedup(v: &[Vec2], b: &[f64]) -> (Vec<Vec2>, Vec<f64>) {
     let n = v.len();
     let mut ov = Vec::with_capacity(n);
     let mut ob = Vec::with_capacity(n);
@@ -489,12 +465,7 @@ mod tests {
     #[test]
     fn all_primitives_make_valid_ccw_outlines() {
         let shapes = [
-            Shape::Rectangle {
-                position: (1.0, 2.0),
-                width: 10.0,
-                height: 3.0,
-                rotation_deg: 30.0,
-            },
+            Shape::Rectangle { position: (1.0, 2.0), width: 10.0, height: 3.0, rotation_deg: 30.0 },
             Shape::Wedge {
                 position: (0.0, 0.0),
                 length: 10.0,
@@ -502,12 +473,7 @@ mod tests {
                 thickness_end: 0.0,
                 rotation_deg: 0.0,
             },
-            Shape::Prism {
-                position: (0.0, 0.0),
-                apex_deg: 60.0,
-                side: 20.0,
-                rotation_deg: 10.0,
-            },
+            Shape::Prism { position: (0.0, 0.0), apex_deg: 60.0, side: 20.0, rotation_deg: 10.0 },
             Shape::Lens {
                 position: (0.0, 0.0),
                 diameter: 20.0,
@@ -524,10 +490,7 @@ mod tests {
                 r2: 40.0,
                 rotation_deg: 0.0,
             },
-            Shape::Ball {
-                position: (3.0, 3.0),
-                radius: 2.0,
-            },
+            Shape::Ball { position: (3.0, 3.0), radius: 2.0 },
             Shape::Pipe {
                 position: (0.0, 0.0),
                 width: 3.0,
@@ -561,16 +524,9 @@ mod tests {
     fn lens_area_matches_geometry() {
         // A plano-convex lens: flat front, back radius −R; area = rectangle + circular segment.
         let (d, t, r) = (20.0f64, 4.0f64, 25.0f64);
-        let o = Shape::Lens {
-            position: (0.0, 0.0),
-            diameter: d,
-            thickness: t,
-            r1: 0.0,
-            r2: -r,
-            rotation_deg: 0.0,
-        }
-        .outline()
-        .expect("lens");
+        let o = Shape::Lens { position: (0.0, 0.0), diameter: d, thickness: t, r1: 0.0, r2: -r, rotation_deg: 0.0 }
+            .outline()
+            .expect("lens");
         let h = d / 2.0;
         let sag = r - (r * r - h * h).sqrt();
         let theta = 2.0 * (h / r).asin();

@@ -3,7 +3,9 @@
 use std::collections::HashSet;
 use std::fmt;
 
-use super::{Emission, MAX_DETECTOR_BINS, MAX_RAYS_PER_SOURCE, MAX_SPECTRUM_LINES, ObjectKind, Path, SCENE_VERSION, Scene};
+use super::{
+    Emission, MAX_DETECTOR_BINS, MAX_RAYS_PER_SOURCE, MAX_SPECTRUM_LINES, ObjectKind, Path, SCENE_VERSION, Scene,
+};
 use crate::optics::material::Dispersion;
 
 /// Most points on one thin element.
@@ -67,11 +69,9 @@ fn finite_point(p: (f64, f64)) -> bool {
 }
 
 /// Every problem of the scene, errors first in object order, then warnings.
+#[allow(clippy::too_many_lines)] // one arm per object kind
 pub fn validate(scene: &Scene) -> Vec<Problem> {
-    let mut c = Collector {
-        problems: Vec::new(),
-        current: None,
-    };
+    let mut c = Collector { problems: Vec::new(), current: None };
     if scene.version == 0 || scene.version > SCENE_VERSION {
         c.error(format!(
             "the scene is version {}, this build reads versions 1 to {SCENE_VERSION}; use a newer build",

@@ -8,13 +8,24 @@ use crate::scene::{ObjectKind, Scene, validate};
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub enum Role {
     /// Boundary of solid number `solid` (index into [`Compiled::solids`]).
-    Solid { solid: u32 },
-    Mirror { reflectance: f64, one_sided: bool },
+    Solid {
+        solid: u32,
+    },
+    Mirror {
+        reflectance: f64,
+        one_sided: bool,
+    },
     Absorber,
-    Splitter { reflectance: f64, transmittance: f64 },
+    Splitter {
+        reflectance: f64,
+        transmittance: f64,
+    },
     /// Detector number `detector` (index into [`Compiled::detectors`]); `along` is the length
     /// of the detector's path before this piece.
-    Detector { detector: u32, along: f64 },
+    Detector {
+        detector: u32,
+        along: f64,
+    },
 }
 
 #[derive(Clone, Copy, Debug)]
@@ -74,6 +85,7 @@ pub struct Compiled {
 impl Compiled {
     /// Builds everything the tracer needs. Objects with errors are left out, each with a
     /// warning; nothing here fails.
+    #[allow(clippy::too_many_lines)] // one arm per object kind
     pub fn new(scene: &Scene) -> Self {
         let mut warnings = Vec::new();
         let problems = validate(scene);
@@ -87,9 +99,7 @@ impl Compiled {
                 warnings.push(format!("{p} (left out of the trace)"));
             }
         }
-        let ambient = scene
-            .material(&scene.ambient)
-            .unwrap_or_else(|| crate::optics::Material::constant("air", 1.0));
+        let ambient = scene.material(&scene.ambient).unwrap_or_else(|| crate::optics::Material::constant("air", 1.0));
         let wavelengths = crate::scene::validate::source_wavelengths(scene);
         let mut media = vec![ambient];
         let mut edges = Vec::new();
@@ -103,12 +113,7 @@ impl Compiled {
             let push_path = |edges: &mut Vec<EdgeInfo>, path: &crate::scene::Path, role: &dyn Fn(f64) -> Role| {
                 let mut along = 0.0;
                 for (k, e) in path.edges().into_iter().enumerate() {
-                    edges.push(EdgeInfo {
-                        edge: e,
-                        object: oi32,
-                        index: k as u32,
-                        role: role(along),
-                    });
+                    edges.push(EdgeInfo { edge: e, object: oi32, index: k as u32, role: role(along) });
                     along += e.length();
                 }
             };
@@ -119,12 +124,7 @@ impl Compiled {
                     };
                     let k = solids.len() as u32;
                     for (i, e) in outline.edges().enumerate() {
-                        edges.push(EdgeInfo {
-                            edge: e,
-                            object: oi32,
-                            index: i as u32,
-                            role: Role::Solid { solid: k },
-                        });
+                        edges.push(EdgeInfo { edge: e, object: oi32, index: i as u32, role: Role::Solid { solid: k } });
                     }
                     let area = outline.signed_area();
                     solids.push(SolidInfo {
@@ -176,10 +176,8 @@ impl Compiled {
         let scale = bounds.extent().max(1e-3);
         let margin = if scene.settings.margin.is_finite() { scene.settings.margin.max(0.0) } else { 0.0 };
         let bounds = bounds.expanded(margin.max(0.01 * scale));
-        let index: Vec<Vec<f64>> = wavelengths
-            .iter()
-            .map(|&nm| media.iter().map(|m| m.index_rel_air(nm)).collect())
-            .collect();
+        let index: Vec<Vec<f64>> =
+            wavelengths.iter().map(|&nm| media.iter().map(|m| m.index_rel_air(nm)).collect()).collect();
         for (w, row) in index.iter().enumerate() {
             for (m, n) in row.iter().enumerate() {
                 if !(n.is_finite() && *n > 0.0) {
@@ -312,7 +310,9 @@ fn nest(solids: &mut [SolidInfo], warnings: &mut Vec<String>, scene: &Scene) {
 /// Whether `outer` holds all of `inner` (checked on up to about 400 of its vertices and
 /// edge midpoints; points on the boundary count as inside, so touching faces are allowed).
 fn encloses(outer: &SolidInfo, inner: &SolidInfo) -> bool {
-    if !(outer.bbox.expanded(1e-9 * outer.bbox.extent()).contains(inner.bbox.min) && outer.bbox.expanded(1e-9 * outer.bbox.extent()).contains(inner.bbox.max)) {
+    if !(outer.bbox.expanded(1e-9 * outer.bbox.extent()).contains(inner.bbox.min)
+        && outer.bbox.expanded(1e-9 * outer.bbox.extent()).contains(inner.bbox.max))
+    {
         return false;
     }
     let n = inner.outline.len();
@@ -350,7 +350,10 @@ fn partial_overlap(a: &Outline, b: &Outline) -> bool {
     let bb = b.aabb();
     let inside_strictly = |o: &Outline, p: Vec2| {
         let eps = 1e-7 * o.aabb().extent();
-        o.contains(p) && [Vec2::new(eps, 0.0), Vec2::new(-eps, 0.0), Vec2::new(0.0, eps), Vec2::new(0.0, -eps)].iter().all(|d| o.contains(p + d))
+        o.contains(p)
+            && [Vec2::new(eps, 0.0), Vec2::new(-eps, 0.0), Vec2::new(0.0, eps), Vec2::new(0.0, -eps)]
+                .iter()
+                .all(|d| o.contains(p + d))
     };
     a.edges().take(2000).any(|e| {
         let m = e.point_at(0.5);

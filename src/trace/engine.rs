@@ -71,7 +71,17 @@ impl Out<'_> {
 }
 
 #[allow(clippy::too_many_arguments)]
-fn ev(kind: EventKind, point: Vec2, before: (f64, f64), after: (f64, f64), object: u32, edge: u32, medium: u32, n: (f64, f64), incidence_deg: f64) -> Event {
+fn ev(
+    kind: EventKind,
+    point: Vec2,
+    before: (f64, f64),
+    after: (f64, f64),
+    object: u32,
+    edge: u32,
+    medium: u32,
+    n: (f64, f64),
+    incidence_deg: f64,
+) -> Event {
     Event {
         point,
         after_s: after.0 as f32,
@@ -96,13 +106,13 @@ enum Next {
 }
 
 impl<'a> Tracer<'a> {
-    pub fn new(_scene: &Scene, c: &'a Compiled, cfg: &TraceConfig) -> Self {
+    pub fn new(scene: &Scene, c: &'a Compiled, cfg: &TraceConfig) -> Self {
         Self {
             c,
             mode: cfg.mode,
             threshold: if cfg.threshold.is_finite() { cfg.threshold.max(0.0) } else { 0.0 },
             max_depth: cfg.max_depth.max(1),
-            n_objects: c.edges.iter().map(|e| e.object as usize + 1).max().unwrap_or(0).max(_scene.objects.len()),
+            n_objects: c.edges.iter().map(|e| e.object as usize + 1).max().unwrap_or(0).max(scene.objects.len()),
             t_min: 1e-10 * c.scale,
             group_eps: 1e-9 * c.scale,
             probe: 1e-7 * c.scale,
@@ -142,25 +152,28 @@ impl<'a> Tracer<'a> {
                 depth: 0,
                 floor: if self.mode == TraceMode::Tree { self.threshold * total } else { 0.0 },
                 on: Vec::new(),
-                first: ev(EventKind::Launch, l.origin, (l.power_s, l.power_p), (l.power_s, l.power_p), l.source, NONE, l.medium, (n, n), 0.0),
+                first: ev(
+                    EventKind::Launch,
+                    l.origin,
+                    (l.power_s, l.power_p),
+                    (l.power_s, l.power_p),
+                    l.source,
+                    NONE,
+                    l.medium,
+                    (n, n),
+                    0.0,
+                ),
                 rng: Rng::new(l.seed),
             });
             while let Some(ray) = stack.pop() {
-                self.follow(ray, &mut out, &mut stack, &mut scratch);
+                self.follow(&ray, &mut out, &mut stack, &mut scratch);
             }
         }
-        ChunkResult {
-            budget,
-            hits,
-            rays,
-            events,
-            n_rays,
-            n_events,
-        }
+        ChunkResult { budget, hits, rays, events, n_rays, n_events }
     }
 
     #[allow(clippy::too_many_lines)]
-    fn follow(&self, ray: Pending, out: &mut Out, stack: &mut Vec<Pending>, group: &mut Vec<BvhHit>) {
+    fn follow(&self, ray: &Pending, out: &mut Out, stack: &mut Vec<Pending>, group: &mut Vec<BvhHit>) {
         let id = *out.n_rays as u32;
         *out.n_rays += 1;
         let first_event = out.events.len();
@@ -168,7 +181,8 @@ impl<'a> Tracer<'a> {
         first.ray = id;
         out.event(first);
         let wl = ray.wavelength as usize;
-        let (mut origin, mut dir, mut s, mut p, mut medium, mut depth) = (ray.origin, ray.dir, ray.s, ray.p, ray.medium, ray.depth);
+        let (mut origin, mut dir, mut s, mut p, mut medium, mut depth) =
+            (ray.origin, ray.dir, ray.s, ray.p, ray.medium, ray.depth);
         let mut on = ray.on.clone();
         let mut rng = ray.rng.clone();
         let emit = |out: &mut Out, mut e: Event| {
@@ -221,13 +235,19 @@ impl<'a> Tracer<'a> {
                 let nn = (n_here, n_here);
                 match info.role {
                     Role::Absorber => {
-                        emit(out, ev(EventKind::Absorb, point, before, (0.0, 0.0), info.object, info.index, medium, nn, inc));
+                        emit(
+                            out,
+                            ev(EventKind::Absorb, point, before, (0.0, 0.0), info.object, info.index, medium, nn, inc),
+                        );
                         out.budget.absorbed += s + p;
                         out.budget.absorbed_by_object[info.object as usize] += s + p;
                         break;
                     }
                     Role::Detector { detector, along } => {
-                        emit(out, ev(EventKind::Detect, point, before, (0.0, 0.0), info.object, info.index, medium, nn, inc));
+                        emit(
+                            out,
+                            ev(EventKind::Detect, point, before, (0.0, 0.0), info.object, info.index, medium, nn, inc),
+                        );
                         out.budget.detected[detector as usize] += s + p;
                         let n_face = if dir.dot(&h.normal) < 0.0 { h.normal } else { -h.normal };
                         let back = -dir;
@@ -243,7 +263,20 @@ impl<'a> Tracer<'a> {
                     }
                     Role::Mirror { reflectance, one_sided } => {
                         if one_sided && dir.dot(&h.normal) < 0.0 {
-                            emit(out, ev(EventKind::Absorb, point, before, (0.0, 0.0), info.object, info.index, medium, nn, inc));
+                            emit(
+                                out,
+                                ev(
+                                    EventKind::Absorb,
+                                    point,
+                                    before,
+                                    (0.0, 0.0),
+                                    info.object,
+                                    info.index,
+                                    medium,
+                                    nn,
+                                    inc,
+                                ),
+                            );
                             out.budget.absorbed += s + p;
                             out.budget.absorbed_by_object[info.object as usize] += s + p;
                             break;
@@ -254,12 +287,12 @@ impl<'a> Tracer<'a> {
                         s *= reflectance;
                         p *= reflectance;
                         dir = reflect(dir, h.normal).normalize();
-                        emit(out, ev(EventKind::Reflect, point, before, (s, p), info.object, info.index, medium, nn, inc));
+                        emit(
+                            out,
+                            ev(EventKind::Reflect, point, before, (s, p), info.object, info.index, medium, nn, inc),
+                        );
                     }
-                    Role::Splitter {
-                        reflectance: r,
-                        transmittance: tr,
-                    } => {
+                    Role::Splitter { reflectance: r, transmittance: tr } => {
                         let lost = (s + p) * (1.0 - r - tr).max(0.0);
                         let refl_dir = reflect(dir, h.normal).normalize();
                         let (rs_, rp_) = (s * r, p * r);
@@ -267,7 +300,8 @@ impl<'a> Tracer<'a> {
                         let reflect_ray = match self.mode {
                             TraceMode::Principal => {
                                 out.budget.absorbed += (s + p) - if tr >= r { ts_ + tp_ } else { rs_ + rp_ };
-                                out.budget.absorbed_by_object[info.object as usize] += (s + p) - if tr >= r { ts_ + tp_ } else { rs_ + rp_ };
+                                out.budget.absorbed_by_object[info.object as usize] +=
+                                    (s + p) - if tr >= r { ts_ + tp_ } else { rs_ + rp_ };
                                 tr < r
                             }
                             TraceMode::MonteCarlo => {
@@ -278,7 +312,20 @@ impl<'a> Tracer<'a> {
                                 } else if u < r + tr {
                                     false
                                 } else {
-                                    emit(out, ev(EventKind::Absorb, point, before, (0.0, 0.0), info.object, info.index, medium, nn, inc));
+                                    emit(
+                                        out,
+                                        ev(
+                                            EventKind::Absorb,
+                                            point,
+                                            before,
+                                            (0.0, 0.0),
+                                            info.object,
+                                            info.index,
+                                            medium,
+                                            nn,
+                                            inc,
+                                        ),
+                                    );
                                     out.budget.absorbed += total;
                                     out.budget.absorbed_by_object[info.object as usize] += total;
                                     break;
@@ -309,7 +356,17 @@ impl<'a> Tracer<'a> {
                                             depth,
                                             floor: ray.floor,
                                             on: next_on.clone(),
-                                            first: ev(EventKind::Reflect, point, before, (rs_, rp_), info.object, info.index, medium, nn, inc),
+                                            first: ev(
+                                                EventKind::Reflect,
+                                                point,
+                                                before,
+                                                (rs_, rp_),
+                                                info.object,
+                                                info.index,
+                                                medium,
+                                                nn,
+                                                inc,
+                                            ),
                                             rng: rng.clone(),
                                         });
                                         false
@@ -317,7 +374,20 @@ impl<'a> Tracer<'a> {
                                     (true, false) => true,
                                     (false, true) => false,
                                     (false, false) => {
-                                        emit(out, ev(EventKind::Dropped, point, before, (0.0, 0.0), info.object, info.index, medium, nn, inc));
+                                        emit(
+                                            out,
+                                            ev(
+                                                EventKind::Dropped,
+                                                point,
+                                                before,
+                                                (0.0, 0.0),
+                                                info.object,
+                                                info.index,
+                                                medium,
+                                                nn,
+                                                inc,
+                                            ),
+                                        );
                                         break;
                                     }
                                 }
@@ -331,13 +401,29 @@ impl<'a> Tracer<'a> {
                                 p = rp_;
                             }
                             dir = refl_dir;
-                            emit(out, ev(EventKind::Reflect, point, before, (s, p), info.object, info.index, medium, nn, inc));
+                            emit(
+                                out,
+                                ev(EventKind::Reflect, point, before, (s, p), info.object, info.index, medium, nn, inc),
+                            );
                         } else {
                             if self.mode != TraceMode::MonteCarlo {
                                 s = ts_;
                                 p = tp_;
                             }
-                            emit(out, ev(EventKind::Transmit, point, before, (s, p), info.object, info.index, medium, nn, inc));
+                            emit(
+                                out,
+                                ev(
+                                    EventKind::Transmit,
+                                    point,
+                                    before,
+                                    (s, p),
+                                    info.object,
+                                    info.index,
+                                    medium,
+                                    nn,
+                                    inc,
+                                ),
+                            );
                             transmitted_through_splitter = true;
                         }
                     }
@@ -350,7 +436,22 @@ impl<'a> Tracer<'a> {
                 }
             }
             // Interfaces between solids and media.
-            match self.cross_solids(id, point, &mut dir, &mut s, &mut p, &mut medium, depth, wl, &ray, &next_on, &mut rng, out, stack, group) {
+            match self.cross_solids(
+                id,
+                point,
+                &mut dir,
+                &mut s,
+                &mut p,
+                &mut medium,
+                depth,
+                wl,
+                ray,
+                &next_on,
+                &mut rng,
+                out,
+                stack,
+                group,
+            ) {
                 Next::Continue => {}
                 Next::Stop => break,
             }
@@ -429,8 +530,7 @@ impl<'a> Tracer<'a> {
             .iter()
             .find(|c| c.1 && c.0 + 1 == new_medium)
             .or_else(|| crossings.first())
-            .map(|c| c.2)
-            .unwrap_or(group[0]);
+            .map_or(group[0], |c| c.2);
         let edge = self.c.edges[h.id as usize];
         let (obj, eidx) = (edge.object, edge.index);
         let n1 = self.c.index[wl][*medium as usize];
@@ -518,7 +618,17 @@ impl<'a> Tracer<'a> {
                                 depth,
                                 floor: ray.floor,
                                 on: next_on.to_vec(),
-                                first: ev(EventKind::Reflect, point, before, (rs_, rp_), obj, eidx, *medium, (n1, n2), inc),
+                                first: ev(
+                                    EventKind::Reflect,
+                                    point,
+                                    before,
+                                    (rs_, rp_),
+                                    obj,
+                                    eidx,
+                                    *medium,
+                                    (n1, n2),
+                                    inc,
+                                ),
                                 rng: rng.clone(),
                             });
                         }

@@ -27,11 +27,7 @@ impl TraceJob {
             // The receiver may be gone if the job was dropped; nothing to do then.
             let _ = tx.send(t);
         });
-        Self {
-            control,
-            result: rx,
-            done: None,
-        }
+        Self { control, result: rx, done: None }
     }
 
     /// Asks the trace to stop as soon as possible (it returns a partial, cancelled trace).

@@ -26,7 +26,7 @@ pub struct Launch {
     pub seed: u64,
 }
 
-/// SplitMix64: a small, fast generator with good statistical quality (Steele, Lea & Flood,
+/// `SplitMix64`: a small, fast generator with good statistical quality (Steele, Lea & Flood,
 /// "Fast splittable pseudorandom number generators", OOPSLA 2014).
 #[derive(Clone, Debug)]
 pub struct Rng(u64);
@@ -52,7 +52,7 @@ impl Rng {
 
 /// Mixes several numbers into one seed.
 pub fn mix(parts: &[u64]) -> u64 {
-    let mut r = Rng::new(0x5EED_0F_1A9E);
+    let mut r = Rng::new(0x5EED_F1A9_E000_0001);
     let mut h = 0u64;
     for &p in parts {
         r.0 ^= p.wrapping_add(h);

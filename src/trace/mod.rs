@@ -308,6 +308,7 @@ pub fn trace_with(scene: &Scene, config: &TraceConfig, control: &Control) -> Tra
 }
 
 /// Traces an already compiled scene (lets a caller reuse the BVH between traces).
+#[allow(clippy::too_many_lines)] // the batch loop with its merge in one place
 pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, control: &Control) -> Trace {
     let mut warnings = compiled.warnings.clone();
     let launches = launch::launches(scene, compiled, config);
@@ -319,12 +320,7 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
     let mut detectors: Vec<DetectorResult> = compiled
         .detectors
         .iter()
-        .map(|d| DetectorResult {
-            object: d.object,
-            name: d.name.clone(),
-            length: d.length,
-            hits: Vec::new(),
-        })
+        .map(|d| DetectorResult { object: d.object, name: d.name.clone(), length: d.length, hits: Vec::new() })
         .collect();
     let mut rays: Vec<RayRecord> = Vec::new();
     let mut events: Vec<Event> = Vec::new();
@@ -345,9 +341,7 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
             })
             .collect()
     };
-    let pool = config
-        .threads
-        .and_then(|n| rayon::ThreadPoolBuilder::new().num_threads(n.max(1)).build().ok());
+    let pool = config.threads.and_then(|n| rayon::ThreadPoolBuilder::new().num_threads(n.max(1)).build().ok());
     for batch in chunks.chunks(BATCH) {
         if control.is_cancelled() {
             cancelled = true;

@@ -3,7 +3,8 @@
 
 use raydraft::optics::Material;
 use raydraft::scene::{
-    Absorber, BeamSource, Detector, Emission, ObjectKind, Path, PointSource, Polarization, Scene, Shape, Solid, TraceMode,
+    Absorber, BeamSource, Detector, Emission, ObjectKind, Path, PointSource, Polarization, Scene, Shape, Solid,
+    TraceMode,
 };
 use raydraft::trace::{Trace, TraceConfig, trace};
 
@@ -27,26 +28,20 @@ pub fn solid(scene: &mut Scene, name: &str, shape: Shape, n: f64) -> u64 {
 }
 
 pub fn rect(cx: f64, cy: f64, w: f64, h: f64) -> Shape {
-    Shape::Rectangle {
-        position: (cx, cy),
-        width: w,
-        height: h,
-        rotation_deg: 0.0,
-    }
+    Shape::Rectangle { position: (cx, cy), width: w, height: h, rotation_deg: 0.0 }
 }
 
-pub fn beam(scene: &mut Scene, center: (f64, f64), width: f64, direction_deg: f64, rays: u32, pol: Polarization) -> u64 {
+pub fn beam(
+    scene: &mut Scene,
+    center: (f64, f64),
+    width: f64,
+    direction_deg: f64,
+    rays: u32,
+    pol: Polarization,
+) -> u64 {
     let mut emission = Emission::new(rays, 1.0, 587.5618);
     emission.polarization = pol;
-    scene.add(
-        "beam",
-        ObjectKind::BeamSource(BeamSource {
-            center,
-            width,
-            direction_deg,
-            emission,
-        }),
-    )
+    scene.add("beam", ObjectKind::BeamSource(BeamSource { center, width, direction_deg, emission }))
 }
 
 pub fn point(scene: &mut Scene, at: (f64, f64), start: f64, end: f64, rays: u32) -> u64 {
@@ -62,14 +57,7 @@ pub fn point(scene: &mut Scene, at: (f64, f64), start: f64, end: f64, rays: u32)
 }
 
 pub fn detector(scene: &mut Scene, name: &str, a: (f64, f64), b: (f64, f64)) -> u64 {
-    scene.add(
-        name,
-        ObjectKind::Detector(Detector {
-            path: Path::segment(a, b),
-            bins: 50,
-            angle_bins: 50,
-        }),
-    )
+    scene.add(name, ObjectKind::Detector(Detector { path: Path::segment(a, b), bins: 50, angle_bins: 50 }))
 }
 
 pub fn absorber(scene: &mut Scene, name: &str, a: (f64, f64), b: (f64, f64)) -> u64 {
