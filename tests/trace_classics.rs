@@ -239,3 +239,52 @@ fn core_cladding_guide_accepts_rays_inside_its_numerical_aperture() {
         }
     }
 }
+
+#[test]
+fn a_fused_silica_prism_disperses_by_its_published_index() {
+    // Deviation of a ray through a prism from two applications of Snell's law, with the index
+    // of fused silica from Malitson 1965 (JOSA 55:1205) at the F, d and C lines: the trace must
+    // give the same exit angle to 1e-9 rad, and blue must bend most (normal dispersion).
+    let silica = raydraft::optics::library_material("fused-silica").expect("library");
+    let apex = 60.0f64;
+    let inc = 50.0f64;
+    let mut devs = Vec::new();
+    for nm in [raydraft::optics::material::LINE_F_NM, raydraft::optics::material::LINE_D_NM, raydraft::optics::material::LINE_C_NM] {
+        let (mut s, d) = prism_scene(1.0, apex, inc);
+        if let raydraft::scene::ObjectKind::Solid(sol) = &mut s.objects[0].kind {
+            sol.material = "fused-silica".into();
+        }
+        if let raydraft::scene::ObjectKind::BeamSource(b) = &mut s.objects[1].kind {
+            b.emission.spectrum[0].nm = nm;
+        }
+        let n = silica.index_rel_air(nm);
+        let a = apex.to_radians();
+        let t1 = (inc.to_radians().sin() / n).asin();
+        let t2 = a - t1;
+        let out = (n * t2.sin()).asin();
+        let expected = (inc.to_radians() + out - a).to_degrees();
+        let got = deviation(&s, d);
+        assert!((got - expected).abs() < 1e-7, "{nm} nm: {got} vs {expected}");
+        devs.push(got);
+    }
+    assert!(devs[0] > devs[1] && devs[1] > devs[2], "F > d > C deviation: {devs:?}");
+}
+
+#[test]
+fn zero_length_edges_and_repeated_vertices_are_harmless() {
+    // A square drawn with a repeated corner: the zero-length edge is never hit, and a ray
+    // through that very corner keeps a consistent medium.
+    let mut s = scene();
+    solid(
+        &mut s,
+        "square",
+        Shape::Outline { points: vec![(0.0, 0.0), (10.0, 0.0), (10.0, 0.0), (10.0, 10.0), (0.0, 10.0)], bulges: vec![] },
+        1.5,
+    );
+    beam(&mut s, (-5.0, 15.0), 0.0, -45.0, 1, Polarization::Unpolarized);
+    beam(&mut s, (-5.0, 5.0), 0.0, 0.0, 1, Polarization::Unpolarized);
+    for mode in [TraceMode::Principal, TraceMode::Tree, TraceMode::MonteCarlo] {
+        let t = run(&s, &config(&s, mode));
+        assert!(t.events.iter().all(|e| e.edge != 1 || e.object != 0), "the zero-length edge was hit");
+    }
+}
