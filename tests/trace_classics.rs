@@ -249,7 +249,11 @@ fn a_fused_silica_prism_disperses_by_its_published_index() {
     let apex = 60.0f64;
     let inc = 50.0f64;
     let mut devs = Vec::new();
-    for nm in [raydraft::optics::material::LINE_F_NM, raydraft::optics::material::LINE_D_NM, raydraft::optics::material::LINE_C_NM] {
+    for nm in [
+        raydraft::optics::material::LINE_F_NM,
+        raydraft::optics::material::LINE_D_NM,
+        raydraft::optics::material::LINE_C_NM,
+    ] {
         let (mut s, d) = prism_scene(1.0, apex, inc);
         if let raydraft::scene::ObjectKind::Solid(sol) = &mut s.objects[0].kind {
             sol.material = "fused-silica".into();
@@ -278,7 +282,10 @@ fn zero_length_edges_and_repeated_vertices_are_harmless() {
     solid(
         &mut s,
         "square",
-        Shape::Outline { points: vec![(0.0, 0.0), (10.0, 0.0), (10.0, 0.0), (10.0, 10.0), (0.0, 10.0)], bulges: vec![] },
+        Shape::Outline {
+            points: vec![(0.0, 0.0), (10.0, 0.0), (10.0, 0.0), (10.0, 10.0), (0.0, 10.0)],
+            bulges: vec![],
+        },
         1.5,
     );
     beam(&mut s, (-5.0, 15.0), 0.0, -45.0, 1, Polarization::Unpolarized);

@@ -19,7 +19,7 @@ use rayon::prelude::*;
 
 pub use compile::{Compiled, Role};
 pub use job::TraceJob;
-pub use launch::Launch;
+pub use launch::{Launch, Launcher};
 
 use crate::geom::Vec2;
 use crate::scene::{Scene, TraceMode};
@@ -311,11 +311,12 @@ pub fn trace_with(scene: &Scene, config: &TraceConfig, control: &Control) -> Tra
 #[allow(clippy::too_many_lines)] // the batch loop with its merge in one place
 pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, control: &Control) -> Trace {
     let mut warnings = compiled.warnings.clone();
-    let launches = launch::launches(scene, compiled, config);
-    control.total.store(launches.len() as u64, Ordering::Relaxed);
+    let launcher = launch::Launcher::new(scene, compiled, config);
+    control.total.store(launcher.len(), Ordering::Relaxed);
     control.done.store(0, Ordering::Relaxed);
     let tracer = engine::Tracer::new(scene, compiled, config);
-    let chunks: Vec<&[Launch]> = launches.chunks(CHUNK).collect();
+    let n_chunks = launcher.len().div_ceil(CHUNK as u64);
+    let chunks: Vec<(u64, u64)> = (0..n_chunks).map(|k| (k * CHUNK as u64, (k + 1) * CHUNK as u64)).collect();
     let mut budget = Budget::sized(compiled.alpha.len(), scene.objects.len(), compiled.detectors.len());
     let mut detectors: Vec<DetectorResult> = compiled
         .detectors
@@ -328,15 +329,16 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
     let mut n_events = 0u64;
     let mut truncated = false;
     let mut cancelled = false;
-    let run_batch = |batch: &[&[Launch]], store: bool| -> Vec<Option<engine::ChunkResult>> {
+    let run_batch = |batch: &[(u64, u64)], store: bool| -> Vec<Option<engine::ChunkResult>> {
         batch
             .par_iter()
-            .map(|c| {
+            .map(|&(start, end)| {
                 if control.is_cancelled() {
                     return None;
                 }
-                let r = tracer.trace_chunk(c, store);
-                control.done.fetch_add(c.len() as u64, Ordering::Relaxed);
+                let launches = launcher.range(start, end);
+                let r = tracer.trace_chunk(&launches, store);
+                control.done.fetch_add(launches.len() as u64, Ordering::Relaxed);
                 Some(r)
             })
             .collect()
