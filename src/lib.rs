@@ -9,3 +9,5 @@ pub mod geom;
 pub mod optics;
 pub mod scene;
 pub mod trace;
+pub mod analysis;
+pub mod export;

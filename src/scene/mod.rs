@@ -4,6 +4,7 @@
 //! Units in the document are millimetres and degrees; points are `(x, y)` with Y up.
 //! Every object has a stable numeric `id` (never reused within a scene) and a name.
 
+pub mod file;
 pub mod shapes;
 pub mod validate;
 
@@ -12,6 +13,7 @@ use serde::{Deserialize, Serialize};
 use crate::geom::{Outline, Vec2};
 use crate::optics::Material;
 
+pub use file::{LoadError, Loaded, SaveError};
 pub use shapes::Shape;
 pub use validate::{Problem, validate};
 

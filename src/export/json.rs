@@ -1,0 +1,47 @@
+//! The power budget as one JSON object, for scripts.
+
+use serde_json::{Map, Value, json};
+
+use crate::analysis::BudgetReport;
+use crate::scene::TraceMode;
+use crate::trace::Trace;
+
+/// The mode as written in files and on the command line.
+pub fn mode_word(mode: TraceMode) -> &'static str {
+    match mode {
+        TraceMode::Principal => "principal",
+        TraceMode::Tree => "tree",
+        TraceMode::MonteCarlo => "montecarlo",
+    }
+}
+
+/// The budget of a trace as a JSON value. Powers are in watts; `detected` maps each
+/// detector's name to its power (detectors sharing a name are added together),
+/// `absorbed_by` does the same for the nonzero parts of `absorbed_w`.
+pub fn budget(report: &BudgetReport, trace: &Trace) -> Value {
+    let mut detected = Map::new();
+    for (name, w) in &report.detected {
+        let sum = detected.get(name).and_then(Value::as_f64).unwrap_or(0.0) + w;
+        detected.insert(name.clone(), json!(sum));
+    }
+    let mut absorbed_by = Map::new();
+    for (name, w) in &report.absorbed_by {
+        let sum = absorbed_by.get(name).and_then(Value::as_f64).unwrap_or(0.0) + w;
+        absorbed_by.insert(name.clone(), json!(sum));
+    }
+    json!({
+        "mode": mode_word(trace.mode),
+        "launched_w": report.launched_w,
+        "escaped_w": report.escaped_w,
+        "absorbed_w": report.absorbed_w,
+        "absorbed_by": absorbed_by,
+        "trapped_w": report.trapped_w,
+        "below_threshold_w": report.below_threshold_w,
+        "detected": detected,
+        "closure_error": report.closure_error,
+        "n_rays": trace.n_rays,
+        "n_events": trace.n_events,
+        "events_truncated": trace.events_truncated,
+        "warnings": trace.warnings,
+    })
+}
