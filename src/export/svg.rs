@@ -142,7 +142,7 @@ pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
     let scale = (options.max_width_px / size.x).min(options.max_height_px / size.y);
     let px = |n: f64| n / scale; // a length of n pixels, in mm
     let font = px(13.0);
-    let header_lines = 4.0;
+    let header_lines = 5.0;
     let header = font * 1.5 * header_lines + px(6.0);
     let (vx, vy, vw, vh) = (bounds.min.x, -bounds.max.y - header, size.x, size.y + header);
 
@@ -273,7 +273,8 @@ fn ray_polyline(out: &mut String, run: &[Vec2], colour: &str, level: f64, base: 
     if level <= 0.0 || run.len() < 2 {
         return;
     }
-    let opacity = base * (0.1 + 0.9 * level);
+    // The cube keeps the main paths clearly stronger than the faint branches.
+    let opacity = base * (0.05 + 0.95 * level.powi(3));
     let _ = writeln!(out, r#"<polyline points="{}" stroke="{colour}" stroke-opacity="{opacity:.3}"/>"#, points_attr(run));
 }
 
@@ -375,7 +376,12 @@ fn legend(out: &mut String, scene: &Scene, trace: &Trace, n_drawn: usize, n_tir:
     let tir_label = if n_tir > 0 { "TIR point" } else { "TIR point (none here)" };
     let _ = writeln!(out, r##"<circle cx="{}" cy="{}" r="{}" fill="#d7301f"/>"##, num(x + px(3.0)), num(y - font * 0.35), num(px(3.0)));
     let _ = writeln!(out, r#"<text x="{}" y="{}">{tir_label}</text>"#, num(x + px(10.0)), num(y));
-    let key = "ray opacity: power relative to launch, log scale over 4 decades. Solid blue: refracting solid; grey: mirror; black: absorber; purple dashes: beam splitter; green dashes: detector; orange: source.";
-    let _ = writeln!(out, r#"<text x="{}" y="{}" font-size="{}">{}</text>"#, num(x0), num(line(3.0)), num(font * 0.85), xml(key));
+    let keys = [
+        "Ray opacity: power relative to launch on a log scale (1 down to 1e-4).",
+        "Blue fill: refracting solid; grey: mirror; black: absorber; purple dashes: beam splitter; green dashes: detector; orange: source.",
+    ];
+    for (k, key) in keys.iter().enumerate() {
+        let _ = writeln!(out, r#"<text x="{}" y="{}" font-size="{}">{}</text>"#, num(x0), num(line(3.0 + 0.85 * k as f64)), num(font * 0.85), xml(key));
+    }
     let _ = writeln!(out, "</g>");
 }
