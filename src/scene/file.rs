@@ -166,6 +166,12 @@ fn syntax_error(e: &ron::error::SpannedError, path: &str) -> LoadError {
         E::MissingStructField { .. } => "; add the field (docs/scene-format.md says what it means)",
         E::DuplicateStructField { .. } => "; keep only one of them",
         E::Eof => "; the file ends too early, probably a missing `)` or `]`",
+        E::IntegerOutOfBounds | E::ExpectedInteger | E::InvalidIntegerDigit { .. } => {
+            "; write a whole number that is not negative (counts and ids cannot be negative or fractional)"
+        }
+        E::ExpectedFloat => "; write a number here, such as 1.0",
+        E::ExpectedString | E::ExpectedStringEnd => "; write text in double quotes here",
+        E::InvalidValueForType { .. } => "; write a value of the kind named",
         _ => "; see docs/scene-format.md for the expected form",
     };
     LoadError::Syntax {
