@@ -204,9 +204,7 @@ fn trace(args: &TraceArgs) -> Result<ExitCode, Failure> {
 }
 
 fn write_output(path: &Path, text: &str, what: &str) -> Result<(), Failure> {
-    std::fs::write(path, text)
-        .with_context(|| format!("cannot write the {what} to {}", path.display()))
-        .map_err(other)
+    std::fs::write(path, text).with_context(|| format!("cannot write the {what} to {}", path.display())).map_err(other)
 }
 
 /// The power budget as a table people read.
@@ -222,10 +220,15 @@ pub fn budget_text(scene: &Scene, path: &Path, trace: &Trace, report: &BudgetRep
         trace.n_events
     );
     if trace.mode == TraceMode::Principal {
-        let _ = writeln!(out, "principal mode follows one path per ray without splitting: the budget counts paths, not watts");
+        let _ = writeln!(
+            out,
+            "principal mode follows one path per ray without splitting: the budget counts paths, not watts"
+        );
     }
     let launched = report.launched_w;
-    let pct = |w: f64| if launched > 0.0 { 100.0 * w / launched } else { 0.0 };
+    let pct = |w: f64| {
+        if launched > 0.0 { 100.0 * w / launched } else { 0.0 }
+    };
     let row = |out: &mut String, indent: usize, label: &str, w: f64| {
         let label = format!("{:indent$}{label}", "");
         let _ = writeln!(out, "  {label:<44} {w:>12.6} W {:>8.3} %", pct(w));

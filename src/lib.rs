@@ -5,9 +5,9 @@
 //! engine ([`trace`]), analysis of results ([`analysis`]) and exporters ([`export`]). None of
 //! these modules depend on a user interface.
 
+pub mod analysis;
+pub mod export;
 pub mod geom;
 pub mod optics;
 pub mod scene;
 pub mod trace;
-pub mod analysis;
-pub mod export;

@@ -48,7 +48,8 @@ fn every_demo_traces_to_json_with_a_closed_budget_and_an_svg() {
         assert_eq!(json["mode"], "tree");
         let launched = json["launched_w"].as_f64().expect("launched");
         assert!(launched > 0.0, "{name}");
-        let detected: f64 = json["detected"].as_object().expect("detected").values().filter_map(serde_json::Value::as_f64).sum();
+        let detected: f64 =
+            json["detected"].as_object().expect("detected").values().filter_map(serde_json::Value::as_f64).sum();
         let sinks = ["escaped_w", "absorbed_w", "trapped_w", "below_threshold_w"]
             .iter()
             .map(|k| json[k].as_f64().expect("sink"))
@@ -59,7 +60,8 @@ fn every_demo_traces_to_json_with_a_closed_budget_and_an_svg() {
         assert!(detected > 0.0, "{name}: the demo's detector sees nothing");
 
         let picture = std::fs::read_to_string(&svg).expect("svg written");
-        let doc = roxmltree::Document::parse(&picture).unwrap_or_else(|e| panic!("{name}: SVG is not well-formed: {e}"));
+        let doc =
+            roxmltree::Document::parse(&picture).unwrap_or_else(|e| panic!("{name}: SVG is not well-formed: {e}"));
         assert_eq!(doc.root_element().tag_name().name(), "svg");
         assert!(doc.descendants().any(|n| n.has_tag_name("polyline")), "{name}: no rays drawn");
 
@@ -74,7 +76,15 @@ fn the_text_budget_names_every_sink() {
     let out = raydraft(&["trace", "scenes/light_guide.ron"]);
     assert!(out.status.success(), "{}", text(&out.stderr));
     let s = text(&out.stdout);
-    for word in ["launched", "detected by \"viewing plane\"", "escaped", "absorbed", "trapped", "below threshold", "closure error"] {
+    for word in [
+        "launched",
+        "detected by \"viewing plane\"",
+        "escaped",
+        "absorbed",
+        "trapped",
+        "below threshold",
+        "closure error",
+    ] {
         assert!(s.contains(word), "missing {word}:\n{s}");
     }
 }
@@ -90,7 +100,9 @@ fn the_events_table_has_one_row_per_event() {
     let mut lines = table.lines();
     assert_eq!(
         lines.next(),
-        Some("ray,parent,x_mm,y_mm,direction_deg,wavelength_nm,power_s_w,power_p_w,kind,object,edge,n1,n2,incidence_deg")
+        Some(
+            "ray,parent,x_mm,y_mm,direction_deg,wavelength_nm,power_s_w,power_p_w,kind,object,edge,n1,n2,incidence_deg"
+        )
     );
     let rows: Vec<&str> = lines.collect();
     assert_eq!(rows.len() as u64, json["n_events"].as_u64().expect("n_events"));
@@ -104,7 +116,8 @@ fn the_events_table_has_one_row_per_event() {
 
 #[test]
 fn overrides_change_the_trace() {
-    let out = raydraft(&["trace", "scenes/lens_focus.ron", "--json", "--mode", "principal", "--rays", "5", "--threads", "1"]);
+    let out =
+        raydraft(&["trace", "scenes/lens_focus.ron", "--json", "--mode", "principal", "--rays", "5", "--threads", "1"]);
     assert!(out.status.success(), "{}", text(&out.stderr));
     let json: serde_json::Value = serde_json::from_slice(&out.stdout).expect("json");
     assert_eq!(json["mode"], "principal");

@@ -45,10 +45,7 @@ fn awkward_floats_round_trip_exactly() {
         scene.add(
             &format!("ball {k}"),
             ObjectKind::Solid(Solid {
-                shape: Shape::Ball {
-                    position: (*v, -*v),
-                    radius: 1.0 + v.abs(),
-                },
+                shape: Shape::Ball { position: (*v, -*v), radius: 1.0 + v.abs() },
                 material: "water".to_owned(),
             }),
         );

@@ -39,14 +39,7 @@ fn histogram(samples: impl Iterator<Item = (f64, f64)>, low: f64, high: f64, bin
         let k = (((x - low) / width).floor().max(0.0) as usize).min(power.len() - 1);
         power[k] += w;
     }
-    power
-        .iter()
-        .enumerate()
-        .map(|(k, p)| Bin {
-            centre: low + (k as f64 + 0.5) * width,
-            density: p / width,
-        })
-        .collect()
+    power.iter().enumerate().map(|(k, p)| Bin { centre: low + (k as f64 + 0.5) * width, density: p / width }).collect()
 }
 
 /// The histogram sizes the scene asks for on detector `det`: (position bins, angle bins).
@@ -112,12 +105,7 @@ pub fn budget_report(scene: &Scene, compiled: &Compiled, trace: &Trace) -> Budge
         absorbed_by,
         trapped_w: b.trapped,
         below_threshold_w: b.below_threshold,
-        detected: trace
-            .detectors
-            .iter()
-            .zip(&b.detected)
-            .map(|(d, w)| (d.name.clone(), *w))
-            .collect(),
+        detected: trace.detectors.iter().zip(&b.detected).map(|(d, w)| (d.name.clone(), *w)).collect(),
         closure_error: b.closure_error(),
     }
 }
@@ -134,12 +122,7 @@ mod tests {
             length: 10.0,
             hits: hits
                 .iter()
-                .map(|&(along, angle_deg, power)| DetectorHit {
-                    along,
-                    angle_deg,
-                    power,
-                    wavelength_nm: 550.0,
-                })
+                .map(|&(along, angle_deg, power)| DetectorHit { along, angle_deg, power, wavelength_nm: 550.0 })
                 .collect(),
         }
     }

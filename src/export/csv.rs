@@ -19,11 +19,7 @@ pub const EVENT_HEADER: &str =
 
 /// Quotes a text field if it needs it.
 fn field(text: &str) -> String {
-    if text.contains([',', '"', '\n', '\r']) {
-        format!("\"{}\"", text.replace('"', "\"\""))
-    } else {
-        text.to_owned()
-    }
+    if text.contains([',', '"', '\n', '\r']) { format!("\"{}\"", text.replace('"', "\"\"")) } else { text.to_owned() }
 }
 
 /// One block of rows per detector: bin k of its irradiance histogram (position bin centre

@@ -28,12 +28,7 @@ pub struct SvgOptions {
 
 impl Default for SvgOptions {
     fn default() -> Self {
-        Self {
-            max_rays: 20_000,
-            max_tir_marks: 3_000,
-            max_width_px: 1200.0,
-            max_height_px: 800.0,
-        }
+        Self { max_rays: 20_000, max_tir_marks: 3_000, max_width_px: 1200.0, max_height_px: 800.0 }
     }
 }
 
@@ -117,12 +112,14 @@ pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
             ObjectKind::Absorber(a) => path_points(&a.path),
             ObjectKind::Splitter(s) => path_points(&s.path),
             ObjectKind::Detector(d) => path_points(&d.path),
-            kind => source_geometry(kind).map(|mut g| {
-                if matches!(kind, ObjectKind::BeamSource(_)) {
-                    g.truncate(2);
-                }
-                g
-            }).unwrap_or_default(),
+            kind => source_geometry(kind)
+                .map(|mut g| {
+                    if matches!(kind, ObjectKind::BeamSource(_)) {
+                        g.truncate(2);
+                    }
+                    g
+                })
+                .unwrap_or_default(),
         };
         for p in pts.iter().filter(|p| p.x.is_finite() && p.y.is_finite()) {
             bounds.include(*p);
@@ -158,20 +155,38 @@ pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
         num(vw),
         num(vh)
     );
-    let _ = writeln!(out, "<title>{}</title>", xml(if scene.title.is_empty() { "Raydraft scene" } else { &scene.title }));
-    let _ = writeln!(out, r#"<rect x="{}" y="{}" width="{}" height="{}" fill="white"/>"#, num(vx), num(vy), num(vw), num(vh));
+    let _ =
+        writeln!(out, "<title>{}</title>", xml(if scene.title.is_empty() { "Raydraft scene" } else { &scene.title }));
+    let _ = writeln!(
+        out,
+        r#"<rect x="{}" y="{}" width="{}" height="{}" fill="white"/>"#,
+        num(vx),
+        num(vy),
+        num(vw),
+        num(vh)
+    );
     // Everything in scene coordinates goes in this group: y is flipped.
     let _ = writeln!(out, r#"<g transform="scale(1,-1)" stroke-linejoin="round" stroke-linecap="round">"#);
 
     // Solids.
-    let _ = writeln!(out, r##"<g id="solids" fill="#9ecae1" fill-opacity="0.3" stroke="#3b6a8f" stroke-width="{}">"##, num(px(1.2)));
+    let _ = writeln!(
+        out,
+        r##"<g id="solids" fill="#9ecae1" fill-opacity="0.3" stroke="#3b6a8f" stroke-width="{}">"##,
+        num(px(1.2))
+    );
     for (i, pts) in &outlines {
         let o = &scene.objects[*i];
         let material = match &o.kind {
             ObjectKind::Solid(s) => s.material.as_str(),
             _ => "",
         };
-        let _ = writeln!(out, r#"<polygon points="{}"><title>{} ({})</title></polygon>"#, points_attr(pts), xml(&o.name), xml(material));
+        let _ = writeln!(
+            out,
+            r#"<polygon points="{}"><title>{} ({})</title></polygon>"#,
+            points_attr(pts),
+            xml(&o.name),
+            xml(material)
+        );
     }
     let _ = writeln!(out, "</g>");
 
@@ -184,11 +199,21 @@ pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
             ObjectKind::Absorber(a) => (&a.path, format!(r##"stroke="#111111" stroke-width="{}""##, num(px(3.5)))),
             ObjectKind::Splitter(s) => (
                 &s.path,
-                format!(r##"stroke="#7b4f9d" stroke-width="{}" stroke-dasharray="{} {}""##, num(px(2.5)), num(px(6.0)), num(px(3.0))),
+                format!(
+                    r##"stroke="#7b4f9d" stroke-width="{}" stroke-dasharray="{} {}""##,
+                    num(px(2.5)),
+                    num(px(6.0)),
+                    num(px(3.0))
+                ),
             ),
             ObjectKind::Detector(d) => (
                 &d.path,
-                format!(r##"stroke="#1a9850" stroke-width="{}" stroke-dasharray="{} {}""##, num(px(3.5)), num(px(2.0)), num(px(2.0))),
+                format!(
+                    r##"stroke="#1a9850" stroke-width="{}" stroke-dasharray="{} {}""##,
+                    num(px(3.5)),
+                    num(px(2.0)),
+                    num(px(2.0))
+                ),
             ),
             kind => {
                 source_ui(&mut out, kind, &title, &px);
@@ -210,10 +235,7 @@ pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
                 _ => break,
             }
         }
-        trace
-            .events_of(&trace.rays[k])
-            .first()
-            .map_or(0.0, |e| f64::from(e.after_s) + f64::from(e.after_p))
+        trace.events_of(&trace.rays[k]).first().map_or(0.0, |e| f64::from(e.after_s) + f64::from(e.after_p))
     };
     let principal = trace.mode == crate::scene::TraceMode::Principal;
     // Many overlapping rays would saturate: the full opacity falls as launched rays grow.
@@ -275,18 +297,27 @@ fn ray_polyline(out: &mut String, run: &[Vec2], colour: &str, level: f64, base: 
     }
     // The cube keeps the main paths clearly stronger than the faint branches.
     let opacity = base * (0.05 + 0.95 * level.powi(3));
-    let _ = writeln!(out, r#"<polyline points="{}" stroke="{colour}" stroke-opacity="{opacity:.3}"/>"#, points_attr(run));
+    let _ =
+        writeln!(out, r#"<polyline points="{}" stroke="{colour}" stroke-opacity="{opacity:.3}"/>"#, points_attr(run));
 }
 
 fn source_ui(out: &mut String, kind: &ObjectKind, title: &str, px: &dyn Fn(f64) -> f64) {
-    let Some(g) = source_geometry(kind) else { return };
+    let Some(g) = source_geometry(kind) else {
+        return;
+    };
     if g.iter().any(|p| !(p.x.is_finite() && p.y.is_finite())) {
         return;
     }
     let style = format!(r##"stroke="#e08214" stroke-width="{}" fill="#fdb863""##, num(px(2.0)));
     match kind {
         ObjectKind::PointSource(_) => {
-            let _ = writeln!(out, r#"<circle cx="{}" cy="{}" r="{}" {style}>{title}</circle>"#, num(g[0].x), num(g[0].y), num(px(5.0)));
+            let _ = writeln!(
+                out,
+                r#"<circle cx="{}" cy="{}" r="{}" {style}>{title}</circle>"#,
+                num(g[0].x),
+                num(g[0].y),
+                num(px(5.0))
+            );
         }
         ObjectKind::BeamSource(_) => {
             // The beam's start line and an arrow along its direction from the centre.
@@ -335,7 +366,16 @@ fn source_ui(out: &mut String, kind: &ObjectKind, title: &str, px: &dyn Fn(f64) 
 }
 
 #[allow(clippy::too_many_arguments)]
-fn legend(out: &mut String, scene: &Scene, trace: &Trace, n_drawn: usize, n_tir: usize, origin: (f64, f64), font: f64, px: &dyn Fn(f64) -> f64) {
+fn legend(
+    out: &mut String,
+    scene: &Scene,
+    trace: &Trace,
+    n_drawn: usize,
+    n_tir: usize,
+    origin: (f64, f64),
+    font: f64,
+    px: &dyn Fn(f64) -> f64,
+) {
     let x0 = origin.0 + px(8.0);
     let line = |k: f64| origin.1 + px(4.0) + font * (1.1 + 1.5 * k);
     let _ = writeln!(out, r##"<g id="legend" font-family="sans-serif" font-size="{}" fill="#222222">"##, num(font));
@@ -374,14 +414,27 @@ fn legend(out: &mut String, scene: &Scene, trace: &Trace, n_drawn: usize, n_tir:
         x += font * (2.6 + 0.6 * label.len() as f64);
     }
     let tir_label = if n_tir > 0 { "TIR point" } else { "TIR point (none here)" };
-    let _ = writeln!(out, r##"<circle cx="{}" cy="{}" r="{}" fill="#d7301f"/>"##, num(x + px(3.0)), num(y - font * 0.35), num(px(3.0)));
+    let _ = writeln!(
+        out,
+        r##"<circle cx="{}" cy="{}" r="{}" fill="#d7301f"/>"##,
+        num(x + px(3.0)),
+        num(y - font * 0.35),
+        num(px(3.0))
+    );
     let _ = writeln!(out, r#"<text x="{}" y="{}">{tir_label}</text>"#, num(x + px(10.0)), num(y));
     let keys = [
         "Ray opacity: power relative to launch on a log scale (1 down to 1e-4).",
         "Blue fill: refracting solid; grey: mirror; black: absorber; purple dashes: beam splitter; green dashes: detector; orange: source.",
     ];
     for (k, key) in keys.iter().enumerate() {
-        let _ = writeln!(out, r#"<text x="{}" y="{}" font-size="{}">{}</text>"#, num(x0), num(line(3.0 + 0.85 * k as f64)), num(font * 0.85), xml(key));
+        let _ = writeln!(
+            out,
+            r#"<text x="{}" y="{}" font-size="{}">{}</text>"#,
+            num(x0),
+            num(line(3.0 + 0.85 * k as f64)),
+            num(font * 0.85),
+            xml(key)
+        );
     }
     let _ = writeln!(out, "</g>");
 }

@@ -42,21 +42,11 @@ pub enum LoadError {
         source: io::Error,
     },
     #[error("{path}:{line}:{col}: {message}")]
-    Syntax {
-        path: String,
-        line: usize,
-        col: usize,
-        message: String,
-    },
+    Syntax { path: String, line: usize, col: usize, message: String },
     #[error(
         "{path}:{line}:{col}: the number `{text}` is not finite; every number in a scene must be an ordinary finite value"
     )]
-    NotFinite {
-        path: String,
-        line: usize,
-        col: usize,
-        text: String,
-    },
+    NotFinite { path: String, line: usize, col: usize, text: String },
     #[error(
         "{path}: the scene is version {version}, but this build reads versions 1 to {SCENE_VERSION}; open it with a newer Raydraft"
     )]
@@ -107,10 +97,7 @@ impl fmt::Display for ProblemList<'_> {
 /// Reads and checks the scene file at `path`.
 pub fn load(path: impl AsRef<Path>) -> Result<Loaded, LoadError> {
     let path = path.as_ref();
-    let text = fs::read_to_string(path).map_err(|source| LoadError::Io {
-        path: path.display().to_string(),
-        source,
-    })?;
+    let text = fs::read_to_string(path).map_err(|source| LoadError::Io { path: path.display().to_string(), source })?;
     from_str(&text, &path.display().to_string())
 }
 
@@ -118,12 +105,7 @@ pub fn load(path: impl AsRef<Path>) -> Result<Loaded, LoadError> {
 pub fn from_str(text: &str, path_for_messages: &str) -> Result<Loaded, LoadError> {
     let path = path_for_messages.to_owned();
     if let Some((line, col, token)) = find_non_finite(text) {
-        return Err(LoadError::NotFinite {
-            path,
-            line,
-            col,
-            text: token,
-        });
+        return Err(LoadError::NotFinite { path, line, col, text: token });
     }
     let scene = match read_version(text) {
         // Without a readable version the full parse gives the most precise message.
@@ -136,10 +118,7 @@ pub fn from_str(text: &str, path_for_messages: &str) -> Result<Loaded, LoadError
     if problems.iter().any(|p| p.severity == Severity::Error) {
         return Err(LoadError::Invalid { path, problems });
     }
-    Ok(Loaded {
-        scene,
-        warnings: problems,
-    })
+    Ok(Loaded { scene, warnings: problems })
 }
 
 /// Just the version of a scene file; every other field is skipped unread.
@@ -161,7 +140,9 @@ fn parse_v1(text: &str, path: &str) -> Result<Scene, LoadError> {
 fn syntax_error(e: &ron::error::SpannedError, path: &str) -> LoadError {
     use ron::error::Error as E;
     let hint = match &e.code {
-        E::NoSuchStructField { .. } => "; remove the field or correct its spelling (docs/scene-format.md lists every field)",
+        E::NoSuchStructField { .. } => {
+            "; remove the field or correct its spelling (docs/scene-format.md lists every field)"
+        }
         E::NoSuchEnumVariant { .. } => "; use one of the names listed",
         E::MissingStructField { .. } => "; add the field (docs/scene-format.md says what it means)",
         E::DuplicateStructField { .. } => "; keep only one of them",
@@ -200,10 +181,7 @@ pub fn to_string(scene: &Scene) -> Result<String, SaveError> {
 pub fn save(scene: &Scene, path: impl AsRef<Path>) -> Result<(), SaveError> {
     let path = path.as_ref();
     let text = to_string(scene)?;
-    let io_err = |source: io::Error| SaveError::Io {
-        path: path.display().to_string(),
-        source,
-    };
+    let io_err = |source: io::Error| SaveError::Io { path: path.display().to_string(), source };
     let Some(file_name) = path.file_name() else {
         return Err(io_err(io::Error::new(io::ErrorKind::InvalidInput, "the path does not name a file")));
     };
@@ -344,7 +322,8 @@ fn find_non_finite(text: &str) -> Option<(usize, usize, String)> {
             }
             let is_radix = token.starts_with("0x") || token.starts_with("0b") || token.starts_with("0o");
             if !is_radix {
-                let digits: String = token.trim_end_matches("f64").trim_end_matches("f32").chars().filter(|&d| d != '_').collect();
+                let digits: String =
+                    token.trim_end_matches("f64").trim_end_matches("f32").chars().filter(|&d| d != '_').collect();
                 if let Ok(v) = digits.parse::<f64>() {
                     if !v.is_finite() {
                         return Some((start.0, start.1, token));
