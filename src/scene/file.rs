@@ -109,9 +109,8 @@ pub fn from_str(text: &str, path_for_messages: &str) -> Result<Loaded, LoadError
     }
     let scene = match read_version(text) {
         // Without a readable version the full parse gives the most precise message.
-        None => parse_v1(text, &path)?,
+        None | Some(1) => parse_v1(text, &path)?,
         Some(0) => return Err(LoadError::BadVersion { path, version: 0 }),
-        Some(1) => parse_v1(text, &path)?,
         Some(version) => return Err(LoadError::NewerVersion { path, version }),
     };
     let problems = validate(&scene);
@@ -227,6 +226,8 @@ pub fn save(scene: &Scene, path: impl AsRef<Path>) -> Result<(), SaveError> {
 /// `NaN` and `inf` (with any sign or suffix) and literals too large for f64, such as
 /// `1e999`. Strings, characters and comments are skipped. Returns line, column (both from 1)
 /// and the token.
+// One pass over the text with its states side by side reads better than split helpers.
+#[allow(clippy::too_many_lines)]
 fn find_non_finite(text: &str) -> Option<(usize, usize, String)> {
     let chars: Vec<char> = text.chars().collect();
     let (mut i, mut line, mut col) = (0usize, 1usize, 1usize);
