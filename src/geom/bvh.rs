@@ -23,44 +23,71 @@ pub struct BvhHit {
     pub id: u32,
 }
 
+/// What a ray test needs of one edge. Kept small (40 bytes) because the leaves of a query
+/// are read in a scattered order: the rarely needed arc data lives in a separate table.
 #[derive(Clone, Copy, Debug)]
 struct Prim {
     a: Vec2,
     /// b − a
     d: Vec2,
-    /// Unit right normal (segments).
-    n: Vec2,
-    /// Arc circle centre, radius and side (+1/−1); radius 0 for a segment.
+    id: u32,
+    /// Index into [`Bvh::arcs`], or [`STRAIGHT`] for a segment.
+    arc: u32,
+}
+
+/// `Prim::arc` of a straight edge.
+const STRAIGHT: u32 = u32::MAX;
+
+/// Circle of an arc edge.
+#[derive(Clone, Copy, Debug)]
+struct ArcPrim {
     center: Vec2,
     radius: f64,
+    /// +1/−1: the side of the chord the arc bows to.
     side: f64,
-    id: u32,
 }
 
 impl Prim {
-    fn new(e: &Edge, id: u32) -> Self {
-        let d = e.b - e.a;
-        let len = d.norm();
-        let n = if len > 0.0 { Vec2::new(d.y, -d.x) / len } else { Vec2::zeros() };
-        let (center, radius, side) = match e.arc() {
-            Some(arc) => (arc.center, arc.radius, arc.side),
-            None => (Vec2::zeros(), 0.0, 0.0),
+    fn new(e: &Edge, id: u32, arcs: &mut Vec<ArcPrim>) -> Self {
+        let arc = match e.arc() {
+            Some(g) if g.radius != 0.0 => {
+                arcs.push(ArcPrim { center: g.center, radius: g.radius, side: g.side });
+                (arcs.len() - 1) as u32
+            }
+            _ => STRAIGHT,
         };
-        Self { a: e.a, d, n, center, radius, side, id }
+        Self { a: e.a, d: e.b - e.a, id, arc }
+    }
+
+    /// Unit right normal of a segment (zero for a zero-length one, which is never hit).
+    #[inline]
+    fn segment_normal(&self) -> Vec2 {
+        let len = self.d.norm();
+        if len > 0.0 { Vec2::new(self.d.y, -self.d.x) / len } else { Vec2::zeros() }
     }
 
     #[inline]
-    fn arc_contains(&self, p: Vec2) -> bool {
+    fn arc_contains(&self, side: f64, p: Vec2) -> bool {
         let s = cross(self.d, p - self.a);
         // Tolerance: 10⁻¹² of the chord in distance from the chord line (see `Edge`).
-        s * self.side <= 1e-12 * self.d.norm_squared()
+        s * side <= 1e-12 * self.d.norm_squared()
     }
 
     /// Calls `f` with every crossing in `(t_min, t_max)`. `from_self`: the ray starts on this
     /// edge, so only a second crossing of an arc can count.
     #[inline]
-    fn cast(&self, o: Vec2, dir: Vec2, t_min: f64, t_max: f64, from_self: bool, mut f: impl FnMut(f64, Vec2)) {
-        if self.radius == 0.0 {
+    #[allow(clippy::too_many_arguments)] // the ray, its range and the arc table; all needed
+    fn cast(
+        &self,
+        arcs: &[ArcPrim],
+        o: Vec2,
+        dir: Vec2,
+        t_min: f64,
+        t_max: f64,
+        from_self: bool,
+        mut f: impl FnMut(f64, Vec2),
+    ) {
+        if self.arc == STRAIGHT {
             if from_self {
                 return;
             }
@@ -75,16 +102,17 @@ impl Prim {
             }
             let s = cross(ao, dir) / denom;
             if (-1e-12..=1.0 + 1e-12).contains(&s) {
-                f(t, self.n);
+                f(t, self.segment_normal());
             }
             return;
         }
-        let oc = o - self.center;
+        let ArcPrim { center, radius, side } = arcs[self.arc as usize];
+        let oc = o - center;
         let b = dir.dot(&oc);
         let roots = if from_self {
             [-2.0 * b, f64::NAN]
         } else {
-            let c = oc.norm_squared() - self.radius * self.radius;
+            let c = oc.norm_squared() - radius * radius;
             let disc = b * b - c;
             if disc < 0.0 {
                 return;
@@ -96,8 +124,8 @@ impl Prim {
         for t in roots {
             if t > t_min && t < t_max {
                 let p = o + dir * t;
-                if self.arc_contains(p) {
-                    f(t, (p - self.center) / self.radius * self.side);
+                if self.arc_contains(side, p) {
+                    f(t, (p - center) / radius * side);
                 }
             }
         }
@@ -119,6 +147,7 @@ struct Node {
 pub struct Bvh {
     nodes: Vec<Node>,
     prims: Vec<Prim>,
+    arcs: Vec<ArcPrim>,
 }
 
 impl Bvh {
@@ -133,8 +162,9 @@ impl Bvh {
         if !edges.is_empty() {
             Self::split(&mut nodes, 0, &mut idx, &boxes, &centers);
         }
-        let prims = idx.iter().map(|&i| Prim::new(&edges[i as usize], i)).collect();
-        Self { nodes, prims }
+        let mut arcs = Vec::new();
+        let prims = idx.iter().map(|&i| Prim::new(&edges[i as usize], i, &mut arcs)).collect();
+        Self { nodes, prims, arcs }
     }
 
     pub fn len(&self) -> usize {
@@ -218,6 +248,66 @@ impl Bvh {
         Self::split(nodes, child + 1, idx, boxes, centers);
     }
 
+    /// Visits, nearest box first, every leaf the ray `origin + t·dir` reaches within
+    /// `(t_min, limit)`. `leaf` tests the leaf's primitives and returns the new `limit`, which
+    /// may only shrink; boxes entered beyond it are skipped.
+    #[inline]
+    fn walk(&self, origin: Vec2, dir: Vec2, t_min: f64, t_max: f64, mut leaf: impl FnMut(&[Prim], f64) -> f64) {
+        if self.prims.is_empty() {
+            return;
+        }
+        let slab = Slab::new(origin, dir);
+        let mut limit = t_max;
+        // Far children still to visit, with the distance at which the ray enters their box.
+        // The limit only shrinks, so a box is still reachable exactly when that entry
+        // distance is within the limit: no second box test on the way back.
+        // Two plain arrays rather than one of pairs: zeroing them is a short memset, where an
+        // array of padded pairs took a measurable share of a short query.
+        let mut stack_node = [0u32; 64];
+        let mut stack_enter = [0.0f64; 64];
+        let mut sp = 0usize;
+        let mut node = 0usize;
+        if !slab.enter(&self.nodes[0].bb, t_min, limit).0 {
+            return;
+        }
+        loop {
+            let n = &self.nodes[node];
+            if n.count > 0 {
+                let first = n.first as usize;
+                limit = leaf(&self.prims[first..first + n.count as usize], limit);
+            } else {
+                let c0 = n.first as usize;
+                let (hit0, enter0) = slab.enter(&self.nodes[c0].bb, t_min, limit);
+                let (hit1, enter1) = slab.enter(&self.nodes[c0 + 1].bb, t_min, limit);
+                if hit0 || hit1 {
+                    // Nearer child first (the first one on a tie); the other waits on the
+                    // stack if the ray meets it too. Written as selects rather than a match
+                    // so the data-dependent choice costs fewer mispredicted branches.
+                    let first_near = hit0 && (!hit1 || enter0 <= enter1);
+                    let (near, far, far_enter) = if first_near { (c0, c0 + 1, enter1) } else { (c0 + 1, c0, enter0) };
+                    if sp < stack_node.len() {
+                        stack_node[sp] = far as u32;
+                        stack_enter[sp] = far_enter;
+                        sp += usize::from(hit0 && hit1);
+                    }
+                    node = near;
+                    continue;
+                }
+            }
+            // Pop the next node that the ray can still reach.
+            loop {
+                if sp == 0 {
+                    return;
+                }
+                sp -= 1;
+                if stack_enter[sp] <= limit {
+                    node = stack_node[sp] as usize;
+                    break;
+                }
+            }
+        }
+    }
+
     /// The nearest hit of the ray `origin + t·dir` (unit `dir`) for `t` in `(t_min, t_max)`,
     /// together with every other hit no farther than `group_eps` beyond it (a vertex, or two
     /// faces that touch). Edges whose ids are in `on_edges` are those the ray starts on: a
@@ -236,78 +326,95 @@ impl Bvh {
         hits: &mut Vec<BvhHit>,
     ) {
         hits.clear();
-        if self.prims.is_empty() {
-            return;
-        }
-        let inv = Vec2::new(1.0 / dir.x, 1.0 / dir.y);
+        let mut best = f64::INFINITY;
         let mut limit = t_max;
-        let mut stack = [0u32; 64];
-        let mut sp = 0usize;
-        let mut node = 0usize;
-        if self.nodes[0].bb.ray_interval(origin, inv, t_min, limit).is_none() {
-            return;
-        }
-        loop {
-            let n = self.nodes[node];
-            if n.count > 0 {
-                let first = n.first as usize;
-                for p in &self.prims[first..first + n.count as usize] {
-                    let from_self = !on_edges.is_empty() && on_edges.contains(&p.id);
-                    p.cast(origin, dir, t_min, limit, from_self, |t, normal| {
-                        hits.push(BvhHit { t, point: origin + dir * t, normal, id: p.id });
-                    });
-                }
-                if let Some(best) = hits.iter().map(|h| h.t).min_by(f64::total_cmp) {
-                    limit = limit.min(best + group_eps);
-                }
-            } else {
-                let c0 = n.first as usize;
-                let i0 = self.nodes[c0].bb.ray_interval(origin, inv, t_min, limit);
-                let i1 = self.nodes[c0 + 1].bb.ray_interval(origin, inv, t_min, limit);
-                match (i0, i1) {
-                    (Some(a), Some(b)) => {
-                        let (near, far) = if a.0 <= b.0 { (c0, c0 + 1) } else { (c0 + 1, c0) };
-                        if sp < stack.len() {
-                            stack[sp] = far as u32;
-                            sp += 1;
-                        }
-                        node = near;
-                        continue;
-                    }
-                    (Some(_), None) => {
-                        node = c0;
-                        continue;
-                    }
-                    (None, Some(_)) => {
-                        node = c0 + 1;
-                        continue;
-                    }
-                    (None, None) => {}
-                }
+        self.walk(origin, dir, t_min, t_max, |prims, lim| {
+            for p in prims {
+                let from_self = !on_edges.is_empty() && on_edges.contains(&p.id);
+                p.cast(&self.arcs, origin, dir, t_min, lim, from_self, |t, normal| {
+                    best = best.min(t);
+                    hits.push(BvhHit { t, point: origin + dir * t, normal, id: p.id });
+                });
             }
-            // Pop the next node that the ray can still reach.
-            loop {
-                if sp == 0 {
-                    hits.retain(|h| h.t <= limit);
-                    hits.sort_by(|a, b| a.t.total_cmp(&b.t));
-                    return;
-                }
-                sp -= 1;
-                let cand = stack[sp] as usize;
-                if self.nodes[cand].bb.ray_interval(origin, inv, t_min, limit).is_some() {
-                    node = cand;
-                    break;
-                }
-            }
-        }
+            limit = lim.min(best + group_eps);
+            limit
+        });
+        hits.retain(|h| h.t <= limit);
+        hits.sort_by(|a, b| a.t.total_cmp(&b.t));
     }
 
-    /// The nearest hit only (no grouping, no edges to skip).
+    /// The nearest hit only (no grouping, no edges to skip). Of hits at exactly the same
+    /// distance, the first found wins, as in [`Bvh::cast_group`].
     pub fn cast(&self, origin: Vec2, dir: Vec2, t_min: f64, t_max: f64) -> Option<BvhHit> {
-        let mut hits = Vec::with_capacity(4);
-        self.cast_group(origin, dir, t_min, t_max, 0.0, &[], &mut hits);
-        hits.first().copied()
+        let mut best: Option<(f64, Vec2, u32)> = None;
+        self.walk(origin, dir, t_min, t_max, |prims, mut lim| {
+            for p in prims {
+                p.cast(&self.arcs, origin, dir, t_min, lim, false, |t, normal| {
+                    if t < lim {
+                        lim = t;
+                        best = Some((t, normal, p.id));
+                    }
+                });
+            }
+            lim
+        });
+        best.map(|(t, normal, id)| BvhHit { t, point: origin + dir * t, normal, id })
     }
+}
+
+/// A ray set up for box tests.
+///
+/// [`Aabb::ray_interval`] takes `min`/`max` of each slab's two distances, which must cope
+/// with NaN (0 · ∞ when the ray runs along a slab face). NaN can only appear when a component
+/// of `1/dir` is infinite; for every other ray the nearer face of each slab is known from the
+/// sign of `1/dir` once per query and the test reduces to plain comparisons. The distances
+/// are the same products as in `ray_interval`, so both give the same answer.
+struct Slab {
+    origin: Vec2,
+    inv: Vec2,
+    /// Both components of `inv` are finite: the fast path applies.
+    finite: bool,
+    neg_x: bool,
+    neg_y: bool,
+}
+
+impl Slab {
+    #[inline]
+    fn new(origin: Vec2, dir: Vec2) -> Self {
+        let inv = Vec2::new(1.0 / dir.x, 1.0 / dir.y);
+        Self { origin, inv, finite: inv.x.is_finite() && inv.y.is_finite(), neg_x: inv.x < 0.0, neg_y: inv.y < 0.0 }
+    }
+
+    /// Whether the ray meets the box within `[t_min, t_max]`, and the distance at which it
+    /// enters, as [`Aabb::ray_interval`] (the distance means nothing on a miss).
+    #[inline]
+    fn enter(&self, bb: &Aabb, t_min: f64, t_max: f64) -> (bool, f64) {
+        if !self.finite {
+            return bb.ray_interval(self.origin, self.inv, t_min, t_max).map_or((false, 0.0), |(t0, _)| (true, t0));
+        }
+        let (nx, fx) = if self.neg_x { (bb.max.x, bb.min.x) } else { (bb.min.x, bb.max.x) };
+        let (ny, fy) = if self.neg_y { (bb.max.y, bb.min.y) } else { (bb.min.y, bb.max.y) };
+        // Rounding is monotone, so the near face's distance is the smaller of the two.
+        let tnx = (nx - self.origin.x) * self.inv.x;
+        let tfx = (fx - self.origin.x) * self.inv.x;
+        let tny = (ny - self.origin.y) * self.inv.y;
+        let tfy = (fy - self.origin.y) * self.inv.y;
+        let t0 = max(max(t_min, tnx), tny);
+        let t1 = min(min(t_max, tfx), tfy);
+        (t0 <= t1, t0)
+    }
+}
+
+/// `a.max(b)` for numbers that are not NaN, as one compare-and-select.
+#[inline]
+fn max(a: f64, b: f64) -> f64 {
+    if a > b { a } else { b }
+}
+
+/// `a.min(b)` for numbers that are not NaN, as one compare-and-select.
+#[inline]
+fn min(a: f64, b: f64) -> f64 {
+    if a < b { a } else { b }
 }
 
 fn half_perimeter(b: &Aabb) -> f64 {

@@ -307,8 +307,61 @@ pub fn trace_with(scene: &Scene, config: &TraceConfig, control: &Control) -> Tra
     trace_compiled(scene, &compiled, config, control)
 }
 
+/// The trace put together so far, chunk by chunk in launch order.
+struct Merged {
+    budget: Budget,
+    detectors: Vec<DetectorResult>,
+    rays: Vec<RayRecord>,
+    events: Vec<Event>,
+    n_rays: u64,
+    n_events: u64,
+    truncated: bool,
+    cancelled: bool,
+    max_stored_events: usize,
+}
+
+impl Merged {
+    /// Appends a batch of chunk results (`store`: whether its events were kept); returns
+    /// whether to go on (false once a chunk was stopped by cancellation).
+    fn add(&mut self, results: Vec<Option<engine::ChunkResult>>, store: bool) -> bool {
+        for r in results {
+            let Some(r) = r else {
+                self.cancelled = true;
+                continue;
+            };
+            self.budget.add(&r.budget);
+            for (d, h) in self.detectors.iter_mut().zip(r.hits) {
+                d.hits.extend(h);
+            }
+            self.n_events += r.n_events;
+            let ray_base = self.n_rays as u32;
+            self.n_rays += r.n_rays;
+            if self.truncated || !store {
+                continue;
+            }
+            if self.events.len() + r.events.len() > self.max_stored_events {
+                self.truncated = true;
+                continue;
+            }
+            let event_base = self.events.len();
+            self.rays.extend(r.rays.into_iter().map(|mut ray| {
+                ray.id += ray_base;
+                if ray.parent != NONE {
+                    ray.parent += ray_base;
+                }
+                ray.first_event += event_base;
+                ray
+            }));
+            self.events.extend(r.events.into_iter().map(|mut e| {
+                e.ray += ray_base;
+                e
+            }));
+        }
+        !self.cancelled
+    }
+}
+
 /// Traces an already compiled scene (lets a caller reuse the BVH between traces).
-#[allow(clippy::too_many_lines)] // the batch loop with its merge in one place
 pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, control: &Control) -> Trace {
     let mut warnings = compiled.warnings.clone();
     let launcher = launch::Launcher::new(scene, compiled, config);
@@ -317,18 +370,21 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
     let tracer = engine::Tracer::new(scene, compiled, config);
     let n_chunks = launcher.len().div_ceil(CHUNK as u64);
     let chunks: Vec<(u64, u64)> = (0..n_chunks).map(|k| (k * CHUNK as u64, (k + 1) * CHUNK as u64)).collect();
-    let mut budget = Budget::sized(compiled.alpha.len(), scene.objects.len(), compiled.detectors.len());
-    let mut detectors: Vec<DetectorResult> = compiled
-        .detectors
-        .iter()
-        .map(|d| DetectorResult { object: d.object, name: d.name.clone(), length: d.length, hits: Vec::new() })
-        .collect();
-    let mut rays: Vec<RayRecord> = Vec::new();
-    let mut events: Vec<Event> = Vec::new();
-    let mut n_rays = 0u64;
-    let mut n_events = 0u64;
-    let mut truncated = false;
-    let mut cancelled = false;
+    let mut m = Merged {
+        budget: Budget::sized(compiled.alpha.len(), scene.objects.len(), compiled.detectors.len()),
+        detectors: compiled
+            .detectors
+            .iter()
+            .map(|d| DetectorResult { object: d.object, name: d.name.clone(), length: d.length, hits: Vec::new() })
+            .collect(),
+        rays: Vec::new(),
+        events: Vec::new(),
+        n_rays: 0,
+        n_events: 0,
+        truncated: false,
+        cancelled: false,
+        max_stored_events: config.max_stored_events,
+    };
     let run_batch = |batch: &[(u64, u64)], store: bool| -> Vec<Option<engine::ChunkResult>> {
         batch
             .par_iter()
@@ -344,53 +400,49 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
             .collect()
     };
     let pool = config.threads.and_then(|n| rayon::ThreadPoolBuilder::new().num_threads(n.max(1)).build().ok());
-    for batch in chunks.chunks(BATCH) {
-        if control.is_cancelled() {
-            cancelled = true;
+    // Merging one batch (serial: it appends to the single event list) runs beside the
+    // tracing of the next, inside the same pool, so with two or more threads the merge no
+    // longer leaves the other threads idle. With one thread both run on it in turn.
+    // The merge sees results in batch order, exactly as before. A batch may be traced with
+    // events stored just as the previous merge reaches the event cap; its events are then
+    // skipped, as they would have been.
+    let mut batches = chunks.chunks(BATCH);
+    let mut traced: Option<(Vec<Option<engine::ChunkResult>>, bool)> = None;
+    loop {
+        let go_on = !control.is_cancelled();
+        let next = if go_on { batches.next() } else { None };
+        if next.is_none() && traced.is_none() {
+            m.cancelled |= !go_on;
             break;
         }
-        let store = !truncated;
-        let results = match &pool {
-            Some(p) => p.install(|| run_batch(batch, store)),
-            None => run_batch(batch, store),
+        // `m.truncated` may still turn true while `traced` is merged; see above.
+        let store = !m.truncated;
+        let prev = traced.take();
+        let m_ref = &mut m;
+        let step = move || {
+            rayon::join(
+                move || prev.is_none_or(|(results, store)| m_ref.add(results, store)),
+                || next.map(|batch| (run_batch(batch, store), store)),
+            )
         };
-        for r in results {
-            let Some(r) = r else {
-                cancelled = true;
-                continue;
-            };
-            budget.add(&r.budget);
-            for (d, h) in detectors.iter_mut().zip(r.hits) {
-                d.hits.extend(h);
+        let (keep_going, results) = match &pool {
+            Some(p) => p.install(step),
+            None => step(),
+        };
+        traced = results;
+        if !keep_going {
+            // Cancelled while merging: keep what the batch already under way produced (its
+            // chunks stop early) and start nothing new.
+            if let Some((results, store)) = traced.take() {
+                m.add(results, store);
             }
-            n_events += r.n_events;
-            let ray_base = n_rays as u32;
-            n_rays += r.n_rays;
-            if truncated || !store {
-                continue;
-            }
-            if events.len() + r.events.len() > config.max_stored_events {
-                truncated = true;
-                continue;
-            }
-            let event_base = events.len();
-            rays.extend(r.rays.into_iter().map(|mut ray| {
-                ray.id += ray_base;
-                if ray.parent != NONE {
-                    ray.parent += ray_base;
-                }
-                ray.first_event += event_base;
-                ray
-            }));
-            events.extend(r.events.into_iter().map(|mut e| {
-                e.ray += ray_base;
-                e
-            }));
-        }
-        if cancelled {
             break;
+        }
+        if !go_on {
+            m.cancelled = true;
         }
     }
+    let Merged { budget, detectors, rays, events, n_rays, n_events, truncated, cancelled, .. } = m;
     if truncated {
         warnings.push(format!(
             "only the first {} of {n_events} events were kept (the limit is settings.max_stored_events); the budget covers all rays",
