@@ -207,3 +207,33 @@ fn rays_through_vertices_and_along_edges_stay_consistent() {
         }
     }
 }
+
+#[test]
+fn next_interface_reports_the_media_on_both_sides() {
+    // A core nested in a cladding, sharing its end faces, with a mirror beyond.
+    let mut s = scene();
+    solid(&mut s, "cladding", common::rect(50.0, 0.0, 100.0, 4.0), 1.46);
+    solid(&mut s, "core", common::rect(50.0, 0.0, 100.0, 1.0), 1.48);
+    s.add(
+        "mirror",
+        ObjectKind::Mirror(Mirror { path: Path::segment((120.0, -5.0), (120.0, 5.0)), reflectance: 1.0, one_sided: false }),
+    );
+    let c = Compiled::new(&s);
+    let mut hits = Vec::new();
+    // From the air onto the shared end face: air (0) → core (2), the deepest solid entered.
+    let i = c.next_interface(Vec2::new(-5.0, 0.0), Vec2::new(1.0, 0.0), 0, &[], &mut hits).expect("end face");
+    assert_eq!((i.medium_before, i.medium_after), (0, 2));
+    assert!((i.point.x).abs() < 1e-12 && i.t > 4.999);
+    // Inside the core going up: core (2) → cladding (1), then cladding → air.
+    let i = c.next_interface(Vec2::new(10.0, 0.0), Vec2::new(0.0, 1.0), 2, &[], &mut hits).expect("core wall");
+    assert_eq!((i.medium_before, i.medium_after), (2, 1));
+    assert!((i.point.y - 0.5).abs() < 1e-12);
+    let i = c.next_interface(Vec2::new(10.0, 1.0), Vec2::new(0.0, 1.0), 1, &[], &mut hits).expect("cladding wall");
+    assert_eq!((i.medium_before, i.medium_after), (1, 0));
+    // Out of the far end, the mirror: a thin element keeps the medium.
+    let i = c.next_interface(Vec2::new(110.0, 0.0), Vec2::new(1.0, 0.0), 0, &[], &mut hits).expect("mirror");
+    assert_eq!((i.medium_before, i.medium_after), (0, 0));
+    assert!(matches!(i.role, raydraft::trace::Role::Mirror { .. }));
+    // Nothing beyond the mirror.
+    assert!(c.next_interface(Vec2::new(130.0, 0.0), Vec2::new(1.0, 0.0), 0, &[], &mut hits).is_none());
+}

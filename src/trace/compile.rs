@@ -1,7 +1,7 @@
 //! Turns a [`Scene`] into what the tracer needs: one flat list of edges in a BVH, each with
 //! its owner and role, the nesting of solids, and an index table per wavelength and medium.
 
-use crate::geom::{Aabb, Bvh, Edge, Outline, Vec2};
+use crate::geom::{Aabb, Bvh, BvhHit, Edge, Outline, Vec2};
 use crate::scene::{ObjectKind, Scene, validate};
 
 /// What an edge does to light.
@@ -57,6 +57,32 @@ pub struct DetectorInfo {
     pub object: u32,
     pub name: String,
     pub length: f64,
+}
+
+/// Crossing one or more solid boundaries at a point.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Crossing {
+    pub medium_before: u32,
+    pub medium_after: u32,
+    /// The hit whose surface forms the interface: on the solid that decides the new medium,
+    /// else the first solid edge crossed.
+    pub hit: BvhHit,
+}
+
+/// The next interface along a ray: where, which surface, and the media on both sides.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Interface {
+    pub t: f64,
+    pub point: Vec2,
+    /// Unit right normal of the edge (see [`Edge`]).
+    pub normal: Vec2,
+    /// Object index in `scene.objects` and edge index within it.
+    pub object: u32,
+    pub edge: u32,
+    pub role: Role,
+    pub medium_before: u32,
+    /// Equal to `medium_before` for thin elements, which do not change the medium.
+    pub medium_after: u32,
 }
 
 /// Media are numbered 0 for the ambient medium and `k + 1` for solid `k`.
@@ -217,6 +243,110 @@ impl Compiled {
             }
         }
         best.map_or(0, |(_, k)| k + 1)
+    }
+
+    /// Which medium a ray in `medium` travelling along `dir` is in after the solid edges in
+    /// `group` (hits at `point`, as returned by [`Bvh::cast_group`]); `None` if it crosses no
+    /// solid boundary there (other kinds of edge are ignored).
+    ///
+    /// Each solid is counted once. A solid hit on one edge is entered if the ray runs against
+    /// its outward normal; a solid hit on several edges at once (a vertex) is entered or left
+    /// according to the side a point `probe` beyond lies on, and ignored if that side does not
+    /// change. The new medium is the deepest solid entered, else the parent of the shallowest
+    /// solid left.
+    pub fn crossing(&self, point: Vec2, dir: Vec2, medium: u32, group: &[BvhHit], probe: f64) -> Option<Crossing> {
+        let solid_of = |h: &BvhHit| match self.edges[h.id as usize].role {
+            Role::Solid { solid } => Some(solid),
+            _ => None,
+        };
+        let depth_of = |k: u32| self.solids[k as usize].depth;
+        // (solid, hit) of the deepest solid entered (the last on ties) and of the shallowest
+        // left (the first on ties), and the first solid crossed at all.
+        let mut entered: Option<(u32, BvhHit)> = None;
+        let mut left: Option<u32> = None;
+        let mut first: Option<BvhHit> = None;
+        for (i, h) in group.iter().enumerate() {
+            let Some(solid) = solid_of(h) else { continue };
+            if group[..i].iter().any(|g| solid_of(g) == Some(solid)) {
+                continue;
+            }
+            let info = &self.solids[solid as usize];
+            let same = group[i..].iter().filter(|g| solid_of(g) == Some(solid)).count();
+            let entering = if same == 1 {
+                dir.dot(&(h.normal * info.orient)) < 0.0
+            } else {
+                let inside_before = self.solid_in_chain(solid, medium);
+                let inside_after = info.outline.contains(point + dir * probe);
+                if inside_before == inside_after {
+                    continue;
+                }
+                inside_after
+            };
+            first.get_or_insert(*h);
+            if entering {
+                if entered.is_none_or(|(k, _)| depth_of(solid) >= depth_of(k)) {
+                    entered = Some((solid, *h));
+                }
+            } else if left.is_none_or(|k| depth_of(solid) < depth_of(k)) {
+                left = Some(solid);
+            }
+        }
+        let first = first?;
+        let (medium_after, hit) = match (entered, left) {
+            (Some((k, h)), _) => (k + 1, h),
+            (None, Some(k)) => (self.solids[k as usize].parent.map_or(0, |q| q + 1), first),
+            (None, None) => return None,
+        };
+        Some(Crossing { medium_before: medium, medium_after, hit })
+    }
+
+    /// The next interface met by a ray in `medium` from `origin` along unit `dir`, with the
+    /// media on both sides; `on` lists the edges the ray starts on (skipped). `hits` is scratch
+    /// space. Solid boundaries that the ray only grazes at a vertex are passed over.
+    pub fn next_interface(
+        &self,
+        origin: Vec2,
+        dir: Vec2,
+        medium: u32,
+        on: &[u32],
+        hits: &mut Vec<BvhHit>,
+    ) -> Option<Interface> {
+        let t_min = 1e-10 * self.scale;
+        let eps = 1e-9 * self.scale;
+        let probe = 1e-7 * self.scale;
+        let mut origin = origin;
+        let mut on_buf: Vec<u32> = on.to_vec();
+        let mut travelled = 0.0;
+        for _ in 0..64 {
+            let t_max = self.bounds.exit_distance(origin, dir);
+            self.bvh.cast_group(origin, dir, t_min, t_max, eps, &on_buf, hits);
+            let h0 = *hits.first()?;
+            let make = |h: BvhHit, after: u32| {
+                let e = &self.edges[h.id as usize];
+                Interface {
+                    t: travelled + h.t,
+                    point: h.point,
+                    normal: h.normal,
+                    object: e.object,
+                    edge: e.index,
+                    role: e.role,
+                    medium_before: medium,
+                    medium_after: after,
+                }
+            };
+            if let Some(thin) = hits.iter().find(|h| !matches!(self.edges[h.id as usize].role, Role::Solid { .. })) {
+                return Some(make(*thin, medium));
+            }
+            if let Some(c) = self.crossing(h0.point, dir, medium, hits, probe) {
+                return Some(make(c.hit, c.medium_after));
+            }
+            // Only a graze at a vertex: carry on from there.
+            travelled += h0.t;
+            origin = h0.point;
+            on_buf.clear();
+            on_buf.extend(hits.iter().map(|h| h.id));
+        }
+        None
     }
 
     /// Whether solid `k` is the medium `m` or one of its ancestors.

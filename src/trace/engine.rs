@@ -184,6 +184,8 @@ impl<'a> Tracer<'a> {
         let (mut origin, mut dir, mut s, mut p, mut medium, mut depth) =
             (ray.origin, ray.dir, ray.s, ray.p, ray.medium, ray.depth);
         let mut on = ray.on.clone();
+        // The edges of the current event, swapped into `on` for the next cast (no allocation per event).
+        let mut next_on: Vec<u32> = Vec::with_capacity(4);
         let mut rng = ray.rng.clone();
         let emit = |out: &mut Out, mut e: Event| {
             e.ray = id;
@@ -223,8 +225,8 @@ impl<'a> Tracer<'a> {
                 break;
             }
             let before = (s, p);
-            let mut next_on: Vec<u32> = group.iter().map(|h| h.id).collect();
-            next_on.dedup();
+            next_on.clear();
+            next_on.extend(group.iter().map(|h| h.id));
             // Thin elements first: the nearest one in the group decides.
             let thin = group.iter().find(|h| !matches!(self.c.edges[h.id as usize].role, Role::Solid { .. })).copied();
             let mut transmitted_through_splitter = false;
@@ -431,7 +433,7 @@ impl<'a> Tracer<'a> {
                 }
                 if !transmitted_through_splitter {
                     origin = point;
-                    on = next_on;
+                    std::mem::swap(&mut on, &mut next_on);
                     continue;
                 }
             }
@@ -456,7 +458,7 @@ impl<'a> Tracer<'a> {
                 Next::Stop => break,
             }
             origin = point;
-            on = next_on;
+            std::mem::swap(&mut on, &mut next_on);
         }
         if out.store {
             out.rays.push(RayRecord {
@@ -490,47 +492,10 @@ impl<'a> Tracer<'a> {
         stack: &mut Vec<Pending>,
         group: &[BvhHit],
     ) -> Next {
-        // Per solid crossed: (solid, entering, the hit used for the normal).
-        let mut crossings: Vec<(u32, bool, BvhHit)> = Vec::with_capacity(2);
-        for (i, h) in group.iter().enumerate() {
-            let Role::Solid { solid } = self.c.edges[h.id as usize].role else { continue };
-            if crossings.iter().any(|c| c.0 == solid) {
-                continue;
-            }
-            let same: usize = group[i..]
-                .iter()
-                .filter(|g| matches!(self.c.edges[g.id as usize].role, Role::Solid { solid: k } if k == solid))
-                .count();
-            let info = &self.c.solids[solid as usize];
-            let entering = if same == 1 {
-                dir.dot(&(h.normal * info.orient)) < 0.0
-            } else {
-                // A vertex: compare the sides just before and just after.
-                let inside_before = self.c.solid_in_chain(solid, *medium);
-                let inside_after = info.outline.contains(point + *dir * self.probe);
-                if inside_before == inside_after {
-                    continue;
-                }
-                inside_after
-            };
-            crossings.push((solid, entering, *h));
-        }
-        if crossings.is_empty() {
+        let Some(crossing) = self.c.crossing(point, *dir, *medium, group, self.probe) else {
             return Next::Continue;
-        }
-        let depth_of = |k: u32| self.c.solids[k as usize].depth;
-        let new_medium = if let Some(&(k, _, _)) = crossings.iter().filter(|c| c.1).max_by_key(|c| depth_of(c.0)) {
-            k + 1
-        } else {
-            let (k, _, _) = *crossings.iter().min_by_key(|c| depth_of(c.0)).unwrap_or(&crossings[0]);
-            self.c.solids[k as usize].parent.map_or(0, |q| q + 1)
         };
-        // The interface normal comes from the solid that decides the new medium, else the first.
-        let h = crossings
-            .iter()
-            .find(|c| c.1 && c.0 + 1 == new_medium)
-            .or_else(|| crossings.first())
-            .map_or(group[0], |c| c.2);
+        let (new_medium, h) = (crossing.medium_after, crossing.hit);
         let edge = self.c.edges[h.id as usize];
         let (obj, eidx) = (edge.object, edge.index);
         let n1 = self.c.index[wl][*medium as usize];

@@ -17,7 +17,7 @@ use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
 
 use rayon::prelude::*;
 
-pub use compile::{Compiled, Role};
+pub use compile::{Compiled, Crossing, Interface, Role};
 pub use job::TraceJob;
 pub use launch::{Launch, Launcher};
 
