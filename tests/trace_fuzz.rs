@@ -216,7 +216,11 @@ fn next_interface_reports_the_media_on_both_sides() {
     solid(&mut s, "core", common::rect(50.0, 0.0, 100.0, 1.0), 1.48);
     s.add(
         "mirror",
-        ObjectKind::Mirror(Mirror { path: Path::segment((120.0, -5.0), (120.0, 5.0)), reflectance: 1.0, one_sided: false }),
+        ObjectKind::Mirror(Mirror {
+            path: Path::segment((120.0, -5.0), (120.0, 5.0)),
+            reflectance: 1.0,
+            one_sided: false,
+        }),
     );
     let c = Compiled::new(&s);
     let mut hits = Vec::new();

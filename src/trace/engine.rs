@@ -32,6 +32,43 @@ pub struct Tracer<'a> {
     probe: f64,
 }
 
+/// The edges a ray starts on (those of the event it leaves), kept inline: a group rarely
+/// holds more than two or three edges. Beyond [`OnEdges::CAP`] the rest are not listed, which
+/// is harmless: a straight edge through the start point is also excluded by the minimum hit
+/// distance.
+#[derive(Clone, Copy, Debug, Default)]
+struct OnEdges {
+    ids: [u32; OnEdges::CAP],
+    len: usize,
+}
+
+impl OnEdges {
+    const CAP: usize = 8;
+
+    fn of(group: &[BvhHit]) -> Self {
+        let mut s = Self::default();
+        for h in group.iter().take(Self::CAP) {
+            s.ids[s.len] = h.id;
+            s.len += 1;
+        }
+        s
+    }
+
+    fn as_slice(&self) -> &[u32] {
+        &self.ids[..self.len]
+    }
+}
+
+/// Angle of incidence in degrees between direction `d` and unit normal `n` (either side),
+/// from the sine and cosine together so it is accurate at every angle. Computed in single
+/// precision, which is what events store.
+#[inline]
+fn incidence_deg(d: Vec2, n: Vec2) -> f64 {
+    let c = d.dot(&n).abs() as f32;
+    let s = cross(d, n).abs() as f32;
+    f64::from(s.atan2(c).to_degrees())
+}
+
 /// A ray waiting to be followed.
 struct Pending {
     parent: u32,
@@ -46,7 +83,7 @@ struct Pending {
     /// Power threshold for this ray's branches, W.
     floor: f64,
     /// Edges the ray starts on.
-    on: Vec<u32>,
+    on: OnEdges,
     first: Event,
     rng: Rng,
 }
@@ -151,7 +188,7 @@ impl<'a> Tracer<'a> {
                 medium: l.medium,
                 depth: 0,
                 floor: if self.mode == TraceMode::Tree { self.threshold * total } else { 0.0 },
-                on: Vec::new(),
+                on: OnEdges::default(),
                 first: ev(
                     EventKind::Launch,
                     l.origin,
@@ -183,9 +220,7 @@ impl<'a> Tracer<'a> {
         let wl = ray.wavelength as usize;
         let (mut origin, mut dir, mut s, mut p, mut medium, mut depth) =
             (ray.origin, ray.dir, ray.s, ray.p, ray.medium, ray.depth);
-        let mut on = ray.on.clone();
-        // The edges of the current event, swapped into `on` for the next cast (no allocation per event).
-        let mut next_on: Vec<u32> = Vec::with_capacity(4);
+        let mut on = ray.on;
         let mut rng = ray.rng.clone();
         let emit = |out: &mut Out, mut e: Event| {
             e.ray = id;
@@ -199,7 +234,7 @@ impl<'a> Tracer<'a> {
                 break;
             }
             let t_exit = self.c.bounds.exit_distance(origin, dir);
-            self.c.bvh.cast_group(origin, dir, self.t_min, t_exit, self.group_eps, &on, group);
+            self.c.bvh.cast_group(origin, dir, self.t_min, t_exit, self.group_eps, on.as_slice(), group);
             let t = group.first().map_or(t_exit, |h| h.t);
             // Beer–Lambert along the segment.
             let alpha = self.c.alpha[medium as usize];
@@ -225,15 +260,14 @@ impl<'a> Tracer<'a> {
                 break;
             }
             let before = (s, p);
-            next_on.clear();
-            next_on.extend(group.iter().map(|h| h.id));
+            // The edges of this event: the next cast starts on them.
+            let next_on = OnEdges::of(group);
             // Thin elements first: the nearest one in the group decides.
             let thin = group.iter().find(|h| !matches!(self.c.edges[h.id as usize].role, Role::Solid { .. })).copied();
             let mut transmitted_through_splitter = false;
             if let Some(h) = thin {
                 let info = self.c.edges[h.id as usize];
-                let cos_i = dir.dot(&h.normal).abs().min(1.0);
-                let inc = cos_i.acos().to_degrees();
+                let inc = incidence_deg(dir, h.normal);
                 let nn = (n_here, n_here);
                 match info.role {
                     Role::Absorber => {
@@ -357,7 +391,7 @@ impl<'a> Tracer<'a> {
                                             medium,
                                             depth,
                                             floor: ray.floor,
-                                            on: next_on.clone(),
+                                            on: next_on,
                                             first: ev(
                                                 EventKind::Reflect,
                                                 point,
@@ -433,7 +467,7 @@ impl<'a> Tracer<'a> {
                 }
                 if !transmitted_through_splitter {
                     origin = point;
-                    std::mem::swap(&mut on, &mut next_on);
+                    on = next_on;
                     continue;
                 }
             }
@@ -448,7 +482,7 @@ impl<'a> Tracer<'a> {
                 depth,
                 wl,
                 ray,
-                &next_on,
+                next_on,
                 &mut rng,
                 out,
                 stack,
@@ -458,7 +492,7 @@ impl<'a> Tracer<'a> {
                 Next::Stop => break,
             }
             origin = point;
-            std::mem::swap(&mut on, &mut next_on);
+            on = next_on;
         }
         if out.store {
             out.rays.push(RayRecord {
@@ -486,7 +520,7 @@ impl<'a> Tracer<'a> {
         depth: u32,
         wl: usize,
         ray: &Pending,
-        next_on: &[u32],
+        next_on: OnEdges,
         rng: &mut Rng,
         out: &mut Out,
         stack: &mut Vec<Pending>,
@@ -502,7 +536,7 @@ impl<'a> Tracer<'a> {
         let n2 = self.c.index[wl][new_medium as usize];
         let before = (*s, *p);
         let cos_i = dir.dot(&h.normal).abs().min(1.0);
-        let inc = cos_i.acos().to_degrees();
+        let inc = incidence_deg(*dir, h.normal);
         if n1 == n2 {
             *medium = new_medium;
             out.event(Event {
@@ -582,7 +616,7 @@ impl<'a> Tracer<'a> {
                                 medium: *medium,
                                 depth,
                                 floor: ray.floor,
-                                on: next_on.to_vec(),
+                                on: next_on,
                                 first: ev(
                                     EventKind::Reflect,
                                     point,

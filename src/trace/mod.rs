@@ -25,7 +25,7 @@ use crate::geom::Vec2;
 use crate::scene::{Scene, TraceMode};
 
 /// Launched rays per chunk (the unit of parallel work).
-const CHUNK: usize = 32;
+const CHUNK: usize = 8;
 /// Chunks per batch (the unit of progress, cancellation and the event cap).
 const BATCH: usize = 64;
 
@@ -324,6 +324,14 @@ impl Merged {
     /// Appends a batch of chunk results (`store`: whether its events were kept); returns
     /// whether to go on (false once a chunk was stopped by cancellation).
     fn add(&mut self, results: Vec<Option<engine::ChunkResult>>, store: bool) -> bool {
+        if store && !self.truncated {
+            // One allocation per batch instead of repeated doubling (and copying) of the lists.
+            let room = self.max_stored_events.saturating_sub(self.events.len());
+            let events: usize = results.iter().flatten().map(|r| r.events.len()).sum();
+            let rays: usize = results.iter().flatten().map(|r| r.rays.len()).sum();
+            self.events.reserve(events.min(room));
+            self.rays.reserve(rays);
+        }
         for r in results {
             let Some(r) = r else {
                 self.cancelled = true;
