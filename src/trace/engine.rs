@@ -88,6 +88,40 @@ struct Pending {
     rng: Rng,
 }
 
+impl Pending {
+    /// A branch split off this ray at `point` (the reflected part in tree mode), to be traced
+    /// after it; `first` is its first event.
+    #[allow(clippy::too_many_arguments)] // the state of the new branch, field by field
+    fn child(
+        &self,
+        parent: u32,
+        point: Vec2,
+        dir: Vec2,
+        power: (f64, f64),
+        medium: u32,
+        depth: u32,
+        on: OnEdges,
+        first: Event,
+        rng: &Rng,
+    ) -> Pending {
+        Pending {
+            parent,
+            source: self.source,
+            origin: point,
+            dir,
+            s: power.0,
+            p: power.1,
+            wavelength: self.wavelength,
+            medium,
+            depth,
+            floor: self.floor,
+            on,
+            first,
+            rng: rng.clone(),
+        }
+    }
+}
+
 struct Out<'o> {
     budget: &'o mut Budget,
     hits: &'o mut Vec<Vec<DetectorHit>>,
@@ -99,6 +133,12 @@ struct Out<'o> {
 }
 
 impl Out<'_> {
+    /// Power absorbed by a thin element.
+    fn absorbed_by(&mut self, object: usize, w: f64) {
+        self.budget.absorbed += w;
+        self.budget.absorbed_by_object[object] += w;
+    }
+
     fn event(&mut self, e: Event) {
         *self.n_events += 1;
         if self.store {
@@ -267,23 +307,20 @@ impl<'a> Tracer<'a> {
             let mut transmitted_through_splitter = false;
             if let Some(h) = thin {
                 let info = self.c.edges[h.id as usize];
+                let (obj, object_index) = (info.object, info.object as usize);
                 let inc = incidence_deg(dir, h.normal);
-                let nn = (n_here, n_here);
+                // An event at this thin element with the given kind and outgoing power.
+                let here = |kind: EventKind, after: (f64, f64)| {
+                    ev(kind, point, before, after, obj, info.index, medium, (n_here, n_here), inc)
+                };
                 match info.role {
                     Role::Absorber => {
-                        emit(
-                            out,
-                            ev(EventKind::Absorb, point, before, (0.0, 0.0), info.object, info.index, medium, nn, inc),
-                        );
-                        out.budget.absorbed += s + p;
-                        out.budget.absorbed_by_object[info.object as usize] += s + p;
+                        emit(out, here(EventKind::Absorb, (0.0, 0.0)));
+                        out.absorbed_by(object_index, s + p);
                         break;
                     }
                     Role::Detector { detector, along } => {
-                        emit(
-                            out,
-                            ev(EventKind::Detect, point, before, (0.0, 0.0), info.object, info.index, medium, nn, inc),
-                        );
+                        emit(out, here(EventKind::Detect, (0.0, 0.0)));
                         out.budget.detected[detector as usize] += s + p;
                         let n_face = if dir.dot(&h.normal) < 0.0 { h.normal } else { -h.normal };
                         let back = -dir;
@@ -299,167 +336,80 @@ impl<'a> Tracer<'a> {
                     }
                     Role::Mirror { reflectance, one_sided } => {
                         if one_sided && dir.dot(&h.normal) < 0.0 {
-                            emit(
-                                out,
-                                ev(
-                                    EventKind::Absorb,
-                                    point,
-                                    before,
-                                    (0.0, 0.0),
-                                    info.object,
-                                    info.index,
-                                    medium,
-                                    nn,
-                                    inc,
-                                ),
-                            );
-                            out.budget.absorbed += s + p;
-                            out.budget.absorbed_by_object[info.object as usize] += s + p;
+                            // Light reaching the back of a one-sided mirror is absorbed.
+                            emit(out, here(EventKind::Absorb, (0.0, 0.0)));
+                            out.absorbed_by(object_index, s + p);
                             break;
                         }
-                        let lost = (s + p) * (1.0 - reflectance);
-                        out.budget.absorbed += lost;
-                        out.budget.absorbed_by_object[info.object as usize] += lost;
+                        out.absorbed_by(object_index, (s + p) * (1.0 - reflectance));
                         s *= reflectance;
                         p *= reflectance;
                         dir = reflect(dir, h.normal).normalize();
-                        emit(
-                            out,
-                            ev(EventKind::Reflect, point, before, (s, p), info.object, info.index, medium, nn, inc),
-                        );
+                        emit(out, here(EventKind::Reflect, (s, p)));
                     }
                     Role::Splitter { reflectance: r, transmittance: tr } => {
-                        let lost = (s + p) * (1.0 - r - tr).max(0.0);
                         let refl_dir = reflect(dir, h.normal).normalize();
-                        let (rs_, rp_) = (s * r, p * r);
-                        let (ts_, tp_) = (s * tr, p * tr);
+                        let reflected = (s * r, p * r);
+                        let transmitted = (s * tr, p * tr);
+                        let sum = |x: (f64, f64)| x.0 + x.1;
+                        // Which way this ray goes on, and with what power (the other branch,
+                        // if any, is split off as a child ray or dropped).
                         let reflect_ray = match self.mode {
+                            // One path: the larger share, the rest absorbed.
                             TraceMode::Principal => {
-                                out.budget.absorbed += (s + p) - if tr >= r { ts_ + tp_ } else { rs_ + rp_ };
-                                out.budget.absorbed_by_object[info.object as usize] +=
-                                    (s + p) - if tr >= r { ts_ + tp_ } else { rs_ + rp_ };
-                                tr < r
+                                let reflect_ray = tr < r;
+                                let kept = if reflect_ray { reflected } else { transmitted };
+                                out.absorbed_by(object_index, (s + p) - sum(kept));
+                                (s, p) = kept;
+                                reflect_ray
                             }
+                            // Choose by the coefficients and keep the ray's power: the choice
+                            // itself carries the probability.
                             TraceMode::MonteCarlo => {
                                 let u = rng.uniform();
-                                let total = s + p;
-                                if u < r {
-                                    true
-                                } else if u < r + tr {
-                                    false
-                                } else {
-                                    emit(
-                                        out,
-                                        ev(
-                                            EventKind::Absorb,
-                                            point,
-                                            before,
-                                            (0.0, 0.0),
-                                            info.object,
-                                            info.index,
-                                            medium,
-                                            nn,
-                                            inc,
-                                        ),
-                                    );
-                                    out.budget.absorbed += total;
-                                    out.budget.absorbed_by_object[info.object as usize] += total;
+                                if u >= r + tr {
+                                    emit(out, here(EventKind::Absorb, (0.0, 0.0)));
+                                    out.absorbed_by(object_index, s + p);
                                     break;
                                 }
+                                u < r
                             }
                             TraceMode::Tree => {
-                                out.budget.absorbed += lost;
-                                out.budget.absorbed_by_object[info.object as usize] += lost;
-                                let r_ok = rs_ + rp_ > ray.floor && rs_ + rp_ > 0.0;
-                                let t_ok = ts_ + tp_ > ray.floor && ts_ + tp_ > 0.0;
+                                out.absorbed_by(object_index, (s + p) * (1.0 - r - tr).max(0.0));
+                                let r_ok = sum(reflected) > ray.floor && sum(reflected) > 0.0;
+                                let t_ok = sum(transmitted) > ray.floor && sum(transmitted) > 0.0;
                                 if !r_ok {
-                                    out.budget.below_threshold += rs_ + rp_;
+                                    out.budget.below_threshold += sum(reflected);
                                 }
                                 if !t_ok {
-                                    out.budget.below_threshold += ts_ + tp_;
+                                    out.budget.below_threshold += sum(transmitted);
                                 }
-                                match (r_ok, t_ok) {
-                                    (true, true) => {
-                                        stack.push(Pending {
-                                            parent: id,
-                                            source: ray.source,
-                                            origin: point,
-                                            dir: refl_dir,
-                                            s: rs_,
-                                            p: rp_,
-                                            wavelength: ray.wavelength,
-                                            medium,
-                                            depth,
-                                            floor: ray.floor,
-                                            on: next_on,
-                                            first: ev(
-                                                EventKind::Reflect,
-                                                point,
-                                                before,
-                                                (rs_, rp_),
-                                                info.object,
-                                                info.index,
-                                                medium,
-                                                nn,
-                                                inc,
-                                            ),
-                                            rng: rng.clone(),
-                                        });
-                                        false
-                                    }
-                                    (true, false) => true,
-                                    (false, true) => false,
-                                    (false, false) => {
-                                        emit(
-                                            out,
-                                            ev(
-                                                EventKind::Dropped,
-                                                point,
-                                                before,
-                                                (0.0, 0.0),
-                                                info.object,
-                                                info.index,
-                                                medium,
-                                                nn,
-                                                inc,
-                                            ),
-                                        );
-                                        break;
-                                    }
+                                if !r_ok && !t_ok {
+                                    emit(out, here(EventKind::Dropped, (0.0, 0.0)));
+                                    break;
                                 }
+                                if r_ok && t_ok {
+                                    stack.push(ray.child(
+                                        id,
+                                        point,
+                                        refl_dir,
+                                        reflected,
+                                        medium,
+                                        depth,
+                                        next_on,
+                                        here(EventKind::Reflect, reflected),
+                                        &rng,
+                                    ));
+                                }
+                                (s, p) = if t_ok { transmitted } else { reflected };
+                                !t_ok
                             }
                         };
                         if reflect_ray {
-                            if self.mode == TraceMode::MonteCarlo {
-                                // Keep the ray's power: the choice itself carries the probability.
-                            } else {
-                                s = rs_;
-                                p = rp_;
-                            }
                             dir = refl_dir;
-                            emit(
-                                out,
-                                ev(EventKind::Reflect, point, before, (s, p), info.object, info.index, medium, nn, inc),
-                            );
+                            emit(out, here(EventKind::Reflect, (s, p)));
                         } else {
-                            if self.mode != TraceMode::MonteCarlo {
-                                s = ts_;
-                                p = tp_;
-                            }
-                            emit(
-                                out,
-                                ev(
-                                    EventKind::Transmit,
-                                    point,
-                                    before,
-                                    (s, p),
-                                    info.object,
-                                    info.index,
-                                    medium,
-                                    nn,
-                                    inc,
-                                ),
-                            );
+                            emit(out, here(EventKind::Transmit, (s, p)));
                             transmitted_through_splitter = true;
                         }
                     }
@@ -531,133 +481,79 @@ impl<'a> Tracer<'a> {
         };
         let (new_medium, h) = (crossing.medium_after, crossing.hit);
         let edge = self.c.edges[h.id as usize];
-        let (obj, eidx) = (edge.object, edge.index);
         let n1 = self.c.index[wl][*medium as usize];
         let n2 = self.c.index[wl][new_medium as usize];
         let before = (*s, *p);
         let cos_i = dir.dot(&h.normal).abs().min(1.0);
         let inc = incidence_deg(*dir, h.normal);
+        // An event at this interface: kind, outgoing power, medium after.
+        let here = |kind: EventKind, after: (f64, f64), medium_after: u32| Event {
+            ray: id,
+            ..ev(kind, point, before, after, edge.object, edge.index, medium_after, (n1, n2), inc)
+        };
         if n1 == n2 {
             *medium = new_medium;
-            out.event(Event {
-                ray: id,
-                ..ev(EventKind::Transmit, point, before, before, obj, eidx, new_medium, (n1, n2), inc)
-            });
+            out.event(here(EventKind::Transmit, before, new_medium));
             return Next::Continue;
         }
         let f = fresnel(n1, n2, cos_i);
         let refracted = refract(*dir, h.normal, n1, n2);
         let Some(tdir) = refracted.filter(|_| !f.is_tir()) else {
             *dir = reflect(*dir, h.normal).normalize();
-            out.event(Event {
-                ray: id,
-                ..ev(EventKind::Tir, point, before, before, obj, eidx, *medium, (n1, n2), inc)
-            });
+            out.event(here(EventKind::Tir, before, *medium));
             return Next::Continue;
         };
         let rdir = reflect(*dir, h.normal).normalize();
-        match self.mode {
-            TraceMode::Principal => {
-                *dir = tdir;
-                *medium = new_medium;
-                out.event(Event {
-                    ray: id,
-                    ..ev(EventKind::Refract, point, before, before, obj, eidx, new_medium, (n1, n2), inc)
-                });
-            }
+        let reflected = (*s * f.rs, *p * f.rp);
+        // Tree mode transmits exactly what is not reflected, so the budget closes.
+        let transmitted = (*s - reflected.0, *p - reflected.1);
+        // Whether the ray goes on reflected (else refracted), and with what power.
+        let (go_reflected, power) = match self.mode {
+            TraceMode::Principal => (false, before),
             TraceMode::MonteCarlo => {
+                // Choose with the Fresnel probability for this ray's mix of s and p, then
+                // rescale so the ray keeps its power (the choice carries the probability).
                 let total = *s + *p;
-                let r_pow = *s * f.rs + *p * f.rp;
+                let r_pow = reflected.0 + reflected.1;
                 let pr = if total > 0.0 { r_pow / total } else { 0.0 };
                 if rng.uniform() < pr {
-                    let rs_ = *s * f.rs;
-                    *s = total * rs_ / r_pow;
-                    *p = total - *s;
-                    *dir = rdir;
-                    out.event(Event {
-                        ray: id,
-                        ..ev(EventKind::Reflect, point, before, (*s, *p), obj, eidx, *medium, (n1, n2), inc)
-                    });
+                    let s_new = total * reflected.0 / r_pow;
+                    (true, (s_new, total - s_new))
                 } else {
                     let t_pow = *s * f.ts + *p * f.tp;
-                    let ts_ = *s * f.ts;
-                    *s = if t_pow > 0.0 { total * ts_ / t_pow } else { 0.0 };
-                    *p = total - *s;
-                    *dir = tdir;
-                    *medium = new_medium;
-                    out.event(Event {
-                        ray: id,
-                        ..ev(EventKind::Refract, point, before, (*s, *p), obj, eidx, new_medium, (n1, n2), inc)
-                    });
+                    let s_new = if t_pow > 0.0 { total * (*s * f.ts) / t_pow } else { 0.0 };
+                    (false, (s_new, total - s_new))
                 }
             }
             TraceMode::Tree => {
-                let (rs_, rp_) = (*s * f.rs, *p * f.rp);
-                let (ts_, tp_) = (*s - rs_, *p - rp_);
-                let r_ok = rs_ + rp_ > ray.floor && rs_ + rp_ > 0.0;
-                let t_ok = ts_ + tp_ > ray.floor && ts_ + tp_ > 0.0;
+                let sum = |x: (f64, f64)| x.0 + x.1;
+                let r_ok = sum(reflected) > ray.floor && sum(reflected) > 0.0;
+                let t_ok = sum(transmitted) > ray.floor && sum(transmitted) > 0.0;
                 if !r_ok {
-                    out.budget.below_threshold += rs_ + rp_;
+                    out.budget.below_threshold += sum(reflected);
                 }
                 if !t_ok {
-                    out.budget.below_threshold += ts_ + tp_;
+                    out.budget.below_threshold += sum(transmitted);
                 }
-                match (t_ok, r_ok) {
-                    (true, r_ok) => {
-                        if r_ok {
-                            stack.push(Pending {
-                                parent: id,
-                                source: ray.source,
-                                origin: point,
-                                dir: rdir,
-                                s: rs_,
-                                p: rp_,
-                                wavelength: ray.wavelength,
-                                medium: *medium,
-                                depth,
-                                floor: ray.floor,
-                                on: next_on,
-                                first: ev(
-                                    EventKind::Reflect,
-                                    point,
-                                    before,
-                                    (rs_, rp_),
-                                    obj,
-                                    eidx,
-                                    *medium,
-                                    (n1, n2),
-                                    inc,
-                                ),
-                                rng: rng.clone(),
-                            });
-                        }
-                        *s = ts_;
-                        *p = tp_;
-                        *dir = tdir;
-                        *medium = new_medium;
-                        out.event(Event {
-                            ray: id,
-                            ..ev(EventKind::Refract, point, before, (*s, *p), obj, eidx, new_medium, (n1, n2), inc)
-                        });
-                    }
-                    (false, true) => {
-                        *s = rs_;
-                        *p = rp_;
-                        *dir = rdir;
-                        out.event(Event {
-                            ray: id,
-                            ..ev(EventKind::Reflect, point, before, (*s, *p), obj, eidx, *medium, (n1, n2), inc)
-                        });
-                    }
-                    (false, false) => {
-                        out.event(Event {
-                            ray: id,
-                            ..ev(EventKind::Dropped, point, before, (0.0, 0.0), obj, eidx, *medium, (n1, n2), inc)
-                        });
-                        return Next::Stop;
-                    }
+                if !r_ok && !t_ok {
+                    out.event(here(EventKind::Dropped, (0.0, 0.0), *medium));
+                    return Next::Stop;
                 }
+                if r_ok && t_ok {
+                    let first = here(EventKind::Reflect, reflected, *medium);
+                    stack.push(ray.child(id, point, rdir, reflected, *medium, depth, next_on, first, rng));
+                }
+                if t_ok { (false, transmitted) } else { (true, reflected) }
             }
+        };
+        (*s, *p) = power;
+        if go_reflected {
+            *dir = rdir;
+            out.event(here(EventKind::Reflect, power, *medium));
+        } else {
+            *dir = tdir;
+            *medium = new_medium;
+            out.event(here(EventKind::Refract, power, new_medium));
         }
         Next::Continue
     }
