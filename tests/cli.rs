@@ -1,7 +1,9 @@
 //! Runs the real `raydraft` binary on the demo scenes and on broken files.
 
-use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
+
+mod common;
+use common::files_in;
 
 fn raydraft(args: &[&str]) -> Output {
     Command::new(env!("CARGO_BIN_EXE_raydraft"))
@@ -13,16 +15,6 @@ fn raydraft(args: &[&str]) -> Output {
 
 fn text(bytes: &[u8]) -> String {
     String::from_utf8_lossy(bytes).into_owned()
-}
-
-fn files_in(folder: &str) -> Vec<PathBuf> {
-    let mut paths: Vec<PathBuf> = std::fs::read_dir(Path::new(env!("CARGO_MANIFEST_DIR")).join(folder))
-        .expect("folder")
-        .map(|e| e.expect("entry").path())
-        .filter(|p| p.extension().is_some_and(|x| x == "ron"))
-        .collect();
-    paths.sort();
-    paths
 }
 
 #[test]

@@ -6,14 +6,10 @@ use raydraft::scene::file::{self, LoadError};
 use raydraft::scene::{Emission, ObjectKind, Scene, Shape, Solid};
 use raydraft::trace::{TraceConfig, trace};
 
+mod common;
+
 fn demo_scenes() -> Vec<PathBuf> {
-    let mut paths: Vec<PathBuf> = std::fs::read_dir(Path::new(env!("CARGO_MANIFEST_DIR")).join("scenes"))
-        .expect("scenes folder")
-        .map(|e| e.expect("entry").path())
-        .filter(|p| p.extension().is_some_and(|x| x == "ron"))
-        .collect();
-    paths.sort();
-    paths
+    common::files_in("scenes")
 }
 
 #[test]

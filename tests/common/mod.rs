@@ -90,3 +90,15 @@ pub fn final_direction(t: &Trace, ray: usize) -> raydraft::geom::Vec2 {
     assert!(n >= 2, "ray {ray} has {n} events");
     (ev[n - 1].point - ev[n - 2].point).normalize()
 }
+
+/// The scene files (`*.ron`) in a folder of the project, sorted by name.
+pub fn files_in(folder: &str) -> Vec<std::path::PathBuf> {
+    let mut paths: Vec<std::path::PathBuf> =
+        std::fs::read_dir(std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join(folder))
+            .expect("folder")
+            .map(|e| e.expect("entry").path())
+            .filter(|p| p.extension().is_some_and(|x| x == "ron"))
+            .collect();
+    paths.sort();
+    paths
+}
