@@ -35,7 +35,7 @@ pub struct Loaded {
 /// and column where there is one) and ends with what to do about it.
 #[derive(Debug, thiserror::Error)]
 pub enum LoadError {
-    #[error("{path}: cannot read the file: {source}")]
+    #[error("{path}: cannot read the file")]
     Io {
         path: String,
         #[source]
@@ -70,7 +70,7 @@ impl LoadError {
 /// Why a scene could not be written.
 #[derive(Debug, thiserror::Error)]
 pub enum SaveError {
-    #[error("{path}: cannot write the scene: {source}")]
+    #[error("{path}: cannot write the scene")]
     Io {
         path: String,
         #[source]
