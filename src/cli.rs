@@ -165,8 +165,8 @@ fn trace(args: &TraceArgs) -> Result<ExitCode, Failure> {
     if args.threads == Some(0) {
         return Err(bad_input(anyhow!("--threads must be at least 1")));
     }
+    // The scene's warnings come back among the trace's own, so they are printed once, below.
     let loaded = load(&args.file)?;
-    print_load_warnings(&loaded);
     let scene = &loaded.scene;
     let mut config = TraceConfig::from_scene(scene);
     if let Some(m) = args.mode {

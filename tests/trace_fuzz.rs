@@ -44,13 +44,14 @@ fn star(rng: &mut Rng, c: (f64, f64), r_min: f64, r_max: f64, max_bulge: f64) ->
     Shape::Outline { points, bulges }
 }
 
+#[allow(clippy::too_many_lines)] // one arm per kind of random cell, read side by side
 fn random_scene(rng: &mut Rng) -> Scene {
     let mut s = scene();
     let cells = 1 + rng.below(4);
     for cell in 0..cells {
         let c = ((cell % 2) as f64 * 30.0, (cell / 2) as f64 * 30.0);
         let n = rng.range(1.0, 2.5);
-        match rng.below(4) {
+        match rng.below(8) {
             0 => {
                 // A shape with another nested inside it.
                 solid(&mut s, "outer", star(rng, c, 5.0, 10.0, 0.08), n);
@@ -66,6 +67,85 @@ fn random_scene(rng: &mut Rng) -> Scene {
             }
             2 => {
                 solid(&mut s, "ball", Shape::Ball { position: c, radius: rng.range(2.0, 9.0) }, n);
+            }
+            4 => {
+                let r = |rng: &mut Rng| {
+                    if rng.f() < 0.2 { 0.0 } else { rng.range(8.0, 30.0) * if rng.f() < 0.5 { -1.0 } else { 1.0 } }
+                };
+                let (r1, r2) = (r(rng), r(rng));
+                let shape = Shape::Lens {
+                    position: c,
+                    diameter: rng.range(6.0, 14.0),
+                    thickness: rng.range(3.0, 7.0),
+                    r1,
+                    r2,
+                    rotation_deg: rng.range(0.0, 360.0),
+                };
+                // Some radius pairs cannot make a lens; those scenes are rejected by validation.
+                solid(&mut s, "lens", shape, n);
+            }
+            5 => {
+                // Small enough to stay inside its cell whichever way it turns.
+                let shape = Shape::Pipe {
+                    position: c,
+                    width: rng.range(1.0, 2.5),
+                    length_in: rng.range(0.0, 3.0),
+                    bend_radius: rng.range(2.0, 4.0),
+                    bend_deg: rng.range(-150.0, 150.0),
+                    length_out: rng.range(0.0, 3.0),
+                    rotation_deg: rng.range(0.0, 360.0),
+                };
+                solid(&mut s, "pipe", shape, n);
+            }
+            6 => {
+                let shape = Shape::NotchedPlate {
+                    position: c,
+                    length: 12.0,
+                    thickness: 2.0,
+                    notches: 3 + rng.below(12) as u32,
+                    notch_depth: rng.range(0.05, 0.2),
+                    notch_angle_deg: rng.range(50.0, 120.0),
+                    notch_start: 1.0,
+                    notch_end: 11.0,
+                    density_ratio: rng.range(0.5, 4.0),
+                    rotation_deg: rng.range(0.0, 360.0),
+                };
+                solid(&mut s, "plate", shape, n);
+            }
+            7 => {
+                // A block with a mirror coating on its top face, a detector on its right face
+                // and an emitter lying on its left face.
+                solid(&mut s, "block", rect(c.0, c.1, 10.0, 6.0), n);
+                s.add(
+                    "coating",
+                    ObjectKind::Mirror(Mirror {
+                        path: Path::segment((c.0 + 5.0, c.1 + 3.0), (c.0 - 5.0, c.1 + 3.0)),
+                        reflectance: 0.9,
+                        one_sided: rng.f() < 0.5,
+                    }),
+                );
+                s.add(
+                    "face detector",
+                    ObjectKind::Detector(Detector {
+                        path: Path::segment((c.0 + 5.0, c.1 - 3.0), (c.0 + 5.0, c.1 + 3.0)),
+                        bins: 10,
+                        angle_bins: 10,
+                    }),
+                );
+                let inward = rng.f() < 0.7;
+                let (a, b) = if inward {
+                    ((c.0 - 5.0, c.1 + 2.0), (c.0 - 5.0, c.1 - 2.0))
+                } else {
+                    ((c.0 - 5.0, c.1 - 2.0), (c.0 - 5.0, c.1 + 2.0))
+                };
+                s.add(
+                    "face emitter",
+                    ObjectKind::LambertianSource(raydraft::scene::LambertianSource {
+                        a,
+                        b,
+                        emission: Emission::new(8, 1.0, 600.0),
+                    }),
+                );
             }
             _ => {
                 solid(
@@ -128,6 +208,7 @@ fn random_scenes_keep_every_invariant() {
     let seed = std::env::var("RAYDRAFT_FUZZ_SEED").ok().and_then(|v| v.parse().ok()).unwrap_or(0x00C0_FFEE);
     let mut rng = Rng(seed);
     let mut checked_segments = 0usize;
+    let mut overlapping = 0usize;
     let mut scenes = 0;
     while scenes < 4000 {
         let s = random_scene(&mut rng);
@@ -135,11 +216,13 @@ fn random_scenes_keep_every_invariant() {
         if raydraft::scene::validate(&s).iter().any(|p| p.severity == raydraft::scene::validate::Severity::Error) {
             continue;
         }
-        scenes += 1;
         let compiled = Compiled::new(&s);
-        if compiled.warnings.iter().any(|w| w.contains("overlap")) {
+        // Overlapping solids make the medium ambiguous; validation warns about them.
+        if compiled.warnings.iter().any(|w| w.contains("overlaps")) {
+            overlapping += 1;
             continue;
         }
+        scenes += 1;
         let edges: Vec<Edge> = compiled.edges.iter().map(|e| e.edge).collect();
         let mode = [TraceMode::Principal, TraceMode::Tree, TraceMode::MonteCarlo][scenes % 3];
         let mut c = TraceConfig::from_scene(&s);
@@ -174,6 +257,7 @@ fn random_scenes_keep_every_invariant() {
         }
     }
     assert!(checked_segments > 10_000, "only {checked_segments} segments checked");
+    assert!(overlapping < scenes / 4, "{overlapping} scenes skipped for overlapping solids");
 }
 
 #[test]

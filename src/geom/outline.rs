@@ -184,38 +184,69 @@ impl Outline {
     /// The first pair of non-adjacent edges that cross, with the crossing point. Arcs are
     /// replaced by polylines with a point every 2°.
     fn first_crossing(&self) -> Option<(usize, usize, Vec2)> {
-        // Pieces: (edge index, a, b).
-        let mut pieces: Vec<(usize, Vec2, Vec2)> = Vec::new();
+        let pieces = self.pieces(0);
+        let n = self.vertices.len();
+        let tol = 1e-9 * self.aabb().extent();
+        sweep(&pieces, tol, |(ei, a1, b1), (ej, a2, b2)| {
+            let adjacent = ei == ej || (ei + 1) % n == ej || (ej + 1) % n == ei;
+            segments_cross(a1, b1, a2, b2, tol, adjacent).map(|p| (ei.min(ej), ei.max(ej), p))
+        })
+    }
+
+    /// A point where the boundaries of this outline and `other` properly cross, if any: then
+    /// the two overlap without one containing the other. Boundaries that only touch (a
+    /// shared face, a vertex on an edge) do not count.
+    pub fn crossing_with(&self, other: &Outline) -> Option<Vec2> {
+        let n = self.vertices.len();
+        let mut pieces = self.pieces(0);
+        pieces.extend(other.pieces(n));
+        let tol = 1e-9 * self.aabb().union(&other.aabb()).extent();
+        sweep(&pieces, tol, |(ei, a1, b1), (ej, a2, b2)| {
+            if (ei < n) == (ej < n) {
+                return None;
+            }
+            // `adjacent = true` asks for a proper crossing only.
+            segments_cross(a1, b1, a2, b2, tol, true)
+        })
+    }
+
+    /// The edges as straight pieces `(edge index + offset, a, b)`, arcs as polylines with a
+    /// point every 2°.
+    fn pieces(&self, offset: usize) -> Vec<(usize, Vec2, Vec2)> {
+        let mut pieces = Vec::with_capacity(self.vertices.len());
         for (i, e) in self.edges().enumerate() {
             let pts = e.polyline(2f64.to_radians());
             for w in pts.windows(2) {
-                pieces.push((i, w[0], w[1]));
+                pieces.push((i + offset, w[0], w[1]));
             }
         }
-        let n = self.vertices.len();
-        let extent = self.aabb().extent();
-        let tol = 1e-9 * extent;
-        // Sweep over x: sort by min x and compare only overlapping pieces.
-        let mut order: Vec<usize> = (0..pieces.len()).collect();
-        let minx = |k: usize| pieces[k].1.x.min(pieces[k].2.x);
-        let maxx = |k: usize| pieces[k].1.x.max(pieces[k].2.x);
-        order.sort_by(|&a, &b| minx(a).total_cmp(&minx(b)));
-        let mut active: Vec<usize> = Vec::new();
-        for &k in &order {
-            let x0 = minx(k);
-            active.retain(|&m| maxx(m) >= x0 - tol);
-            for &m in &active {
-                let (ei, a1, b1) = pieces[k];
-                let (ej, a2, b2) = pieces[m];
-                let adjacent = ei == ej || (ei + 1) % n == ej || (ej + 1) % n == ei;
-                if let Some(p) = segments_cross(a1, b1, a2, b2, tol, adjacent) {
-                    return Some((ei.min(ej), ei.max(ej), p));
-                }
-            }
-            active.push(k);
-        }
-        None
+        pieces
     }
+}
+
+/// Sweeps over x: calls `test` for every pair of pieces whose x-ranges overlap (within
+/// `tol`) and returns its first answer.
+fn sweep<T>(
+    pieces: &[(usize, Vec2, Vec2)],
+    tol: f64,
+    mut test: impl FnMut((usize, Vec2, Vec2), (usize, Vec2, Vec2)) -> Option<T>,
+) -> Option<T> {
+    let minx = |k: usize| pieces[k].1.x.min(pieces[k].2.x);
+    let maxx = |k: usize| pieces[k].1.x.max(pieces[k].2.x);
+    let mut order: Vec<usize> = (0..pieces.len()).collect();
+    order.sort_by(|&a, &b| minx(a).total_cmp(&minx(b)));
+    let mut active: Vec<usize> = Vec::new();
+    for &k in &order {
+        let x0 = minx(k);
+        active.retain(|&m| maxx(m) >= x0 - tol);
+        for &m in &active {
+            if let Some(t) = test(pieces[k], pieces[m]) {
+                return Some(t);
+            }
+        }
+        active.push(k);
+    }
+    None
 }
 
 /// Whether two segments cross. For pieces of the same or adjacent edges only a proper
@@ -288,6 +319,20 @@ mod tests {
         let b =
             Outline::polygon(vec![Vec2::new(0.0, 0.0), Vec2::new(3.0, 3.0), Vec2::new(3.0, 0.0), Vec2::new(0.0, 1.0)]);
         assert!(matches!(b.validate(), Err(OutlineError::SelfIntersecting(..))));
+    }
+
+    #[test]
+    fn crossing_boundaries_are_found_but_touching_and_nesting_are_not() {
+        let at = |x: f64, y: f64, w: f64| {
+            Outline::polygon(vec![Vec2::new(x, y), Vec2::new(x + w, y), Vec2::new(x + w, y + w), Vec2::new(x, y + w)])
+        };
+        let a = at(0.0, 0.0, 2.0);
+        assert!(a.crossing_with(&at(2.0, 0.0, 2.0)).is_none(), "a shared face");
+        assert!(a.crossing_with(&at(2.0, 2.0, 2.0)).is_none(), "a shared corner");
+        assert!(a.crossing_with(&at(0.5, 0.5, 1.0)).is_none(), "nested");
+        assert!(a.crossing_with(&at(1.0, 1.0, 2.0)).is_some(), "overlapping corners");
+        let ball = Outline { vertices: vec![Vec2::new(1.3, 2.2), Vec2::new(3.3, 2.2)], bulges: vec![1.0, 1.0] };
+        assert!(a.crossing_with(&ball).is_some(), "a circle over a corner");
     }
 
     #[test]

@@ -6,6 +6,7 @@ use std::fmt;
 use super::{
     Emission, MAX_DETECTOR_BINS, MAX_RAYS_PER_SOURCE, MAX_SPECTRUM_LINES, ObjectKind, Path, SCENE_VERSION, Scene,
 };
+use crate::geom::{Aabb, Outline};
 use crate::optics::material::Dispersion;
 
 /// Most points on one thin element.
@@ -188,12 +189,44 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
         }
     }
     c.current = None;
+    overlaps(&mut c, scene);
     if !scene.objects.iter().any(|o| o.kind.is_source()) {
         c.warning("the scene has no light source");
     }
     let mut problems = c.problems;
     problems.sort_by_key(|p| p.severity != Severity::Error);
     problems
+}
+
+/// Warns about pairs of solids whose boundaries cross: where they overlap, the medium is
+/// ambiguous. Nested solids (one inside the other) and solids touching along a face are fine.
+fn overlaps(c: &mut Collector, scene: &Scene) {
+    let solids: Vec<(u64, &str, Outline, Aabb)> = scene
+        .objects
+        .iter()
+        .filter_map(|o| match &o.kind {
+            ObjectKind::Solid(s) => s.shape.outline().ok().filter(|ol| ol.validate().is_ok()).map(|ol| {
+                let bb = ol.aabb();
+                (o.id, o.name.as_str(), ol, bb)
+            }),
+            _ => None,
+        })
+        .collect();
+    for (i, a) in solids.iter().enumerate() {
+        for b in &solids[i + 1..] {
+            if !a.3.overlaps(&b.3) {
+                continue;
+            }
+            if let Some(p) = a.2.crossing_with(&b.2) {
+                c.current = Some((a.0, a.1.to_owned()));
+                c.warning(format!(
+                    "it overlaps solid {} \"{}\" near ({:.4}, {:.4}) mm without one containing the other; the medium there is ambiguous, so move one or make one fit inside the other",
+                    b.0, b.1, p.x, p.y
+                ));
+            }
+        }
+    }
+    c.current = None;
 }
 
 fn material_hint() -> String {

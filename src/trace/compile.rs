@@ -123,6 +123,8 @@ impl Compiled {
         for p in &problems {
             if p.severity == crate::scene::validate::Severity::Error {
                 warnings.push(format!("{p} (left out of the trace)"));
+            } else {
+                warnings.push(p.to_string());
             }
         }
         let ambient = scene.material(&scene.ambient).unwrap_or_else(|| crate::optics::Material::constant("air", 1.0));
@@ -185,7 +187,7 @@ impl Compiled {
                 ObjectKind::PointSource(_) | ObjectKind::BeamSource(_) | ObjectKind::LambertianSource(_) => {}
             }
         }
-        nest(&mut solids, &mut warnings, scene);
+        nest(&mut solids);
         let bvh_edges: Vec<Edge> = edges.iter().map(|e| e.edge).collect();
         let bvh = Bvh::build(&bvh_edges);
         let mut bounds = bvh.bounds();
@@ -376,9 +378,9 @@ fn source_points(kind: &ObjectKind) -> Vec<(f64, f64)> {
     }
 }
 
-/// Finds for each solid the smallest solid that contains it, and warns about solids that
-/// overlap without one containing the other.
-fn nest(solids: &mut [SolidInfo], warnings: &mut Vec<String>, scene: &Scene) {
+/// Finds for each solid the smallest solid that encloses it. (Solids that overlap without
+/// one enclosing the other are reported by `scene::validate`.)
+fn nest(solids: &mut [SolidInfo]) {
     let inner: Vec<Option<Vec2>> = solids.iter().map(|s| s.outline.interior_point()).collect();
     let n = solids.len();
     for k in 0..n {
@@ -410,31 +412,6 @@ fn nest(solids: &mut [SolidInfo], warnings: &mut Vec<String>, scene: &Scene) {
         }
         solids[k].depth = d as u32;
     }
-    // Overlap check on pairs whose boxes meet: a vertex of one strictly inside the other
-    // without nesting means the solids overlap.
-    for k in 0..n {
-        for j in (k + 1)..n {
-            if !solids[k].bbox.overlaps(&solids[j].bbox) {
-                continue;
-            }
-            let nested = chain_contains(solids, k, j) || chain_contains(solids, j, k);
-            if nested {
-                continue;
-            }
-            let overlap = inner[k].is_some_and(|p| solids[j].outline.contains(p))
-                || inner[j].is_some_and(|p| solids[k].outline.contains(p))
-                || partial_overlap(&solids[k].outline, &solids[j].outline)
-                || partial_overlap(&solids[j].outline, &solids[k].outline);
-            if overlap {
-                let name = |s: &SolidInfo| scene.objects[s.object as usize].name.clone();
-                warnings.push(format!(
-                    "solids \"{}\" and \"{}\" overlap without one containing the other; where they overlap the medium is ambiguous",
-                    name(&solids[k]),
-                    name(&solids[j])
-                ));
-            }
-        }
-    }
 }
 
 /// Whether `outer` holds all of `inner` (checked on up to about 400 of its vertices and
@@ -456,37 +433,4 @@ fn encloses(outer: &SolidInfo, inner: &SolidInfo) -> bool {
 
 fn near_boundary(o: &Outline, q: Vec2, tol: f64) -> bool {
     o.edges().any(|e| e.aabb().expanded(tol).contains(q) && (e.point_at(e.param_of(q)) - q).norm() <= tol)
-}
-
-fn chain_contains(solids: &[SolidInfo], outer: usize, inner: usize) -> bool {
-    let mut cur = solids[inner].parent;
-    let mut guard = 0;
-    while let Some(c) = cur {
-        if c as usize == outer {
-            return true;
-        }
-        guard += 1;
-        if guard > solids.len() {
-            break;
-        }
-        cur = solids[c as usize].parent;
-    }
-    false
-}
-
-/// Whether some edge midpoint of one outline lies strictly inside the other (touching
-/// outlines, whose shared faces lie on the boundary, are not counted).
-fn partial_overlap(a: &Outline, b: &Outline) -> bool {
-    let bb = b.aabb();
-    let inside_strictly = |o: &Outline, p: Vec2| {
-        let eps = 1e-7 * o.aabb().extent();
-        o.contains(p)
-            && [Vec2::new(eps, 0.0), Vec2::new(-eps, 0.0), Vec2::new(0.0, eps), Vec2::new(0.0, -eps)]
-                .iter()
-                .all(|d| o.contains(p + d))
-    };
-    a.edges().take(2000).any(|e| {
-        let m = e.point_at(0.5);
-        bb.contains(m) && inside_strictly(b, m)
-    })
 }
