@@ -211,7 +211,14 @@ fn a_cancelled_trace_stops_and_says_so() {
     let t = job.wait().expect("the worker answers");
     assert!(t.cancelled || t.n_rays == 200_000);
     let small = slab_with_lamp(1.5, 100);
-    let job = TraceJob::start(small.clone(), config(&small, TraceMode::Tree));
+    let mut job = TraceJob::start(small.clone(), config(&small, TraceMode::Tree));
+    // Poll as an editor would each frame, without blocking, until the trace is ready.
+    let started = std::time::Instant::now();
+    while job.poll().is_none() {
+        assert!(started.elapsed().as_secs() < 60, "the background trace never finished");
+        std::thread::sleep(std::time::Duration::from_millis(1));
+    }
+    assert_eq!(job.progress(), (100, 100), "progress reaches the number of launched rays");
     let t = job.wait().expect("finished");
     assert!(!t.cancelled && t.budget.closure_error() < 1e-9);
 }
