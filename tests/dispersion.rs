@@ -126,8 +126,8 @@ fn pmma_beadie_2015() {
     // the paper's stated absolute accuracy of 2e-4 as tolerance.
     check_fdc("pmma", [1.49836, 1.49253, 1.49007], 2e-4);
     // Beadie et al. 2015, Appl. Opt. 54:F139; Vd computed from the same coefficients. This
-    // checks only that the coefficients were copied correctly: an index uncertainty of 2e-4 would allow Vd to move by
-    // several units.
+    // checks only that the coefficients were copied correctly: an index uncertainty of 2e-4
+    // would allow Vd to move by several units.
     check_abbe("pmma", 59.37);
 }
 
