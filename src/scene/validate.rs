@@ -102,6 +102,8 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
     }
     let mut ids = HashSet::new();
     let mut object_names = HashSet::new();
+    // Usable solid outlines, for the overlap check at the end.
+    let mut usable: Vec<(u64, &str, Outline, Aabb)> = Vec::new();
     for o in &scene.objects {
         c.current = Some((o.id, o.name.clone()));
         if !ids.insert(o.id) {
@@ -127,11 +129,13 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
                 }
                 match solid.shape.outline() {
                     Err(e) => c.error(format!("the {} cannot be built: {e}", solid.shape.word())),
-                    Ok(outline) => {
-                        if let Err(e) = outline.validate() {
-                            c.error(format!("the {} is not a usable outline: {e}", solid.shape.word()));
+                    Ok(outline) => match outline.validate() {
+                        Err(e) => c.error(format!("the {} is not a usable outline: {e}", solid.shape.word())),
+                        Ok(()) => {
+                            let bb = outline.aabb();
+                            usable.push((o.id, o.name.as_str(), outline, bb));
                         }
-                    }
+                    },
                 }
             }
             ObjectKind::Mirror(m) => {
@@ -189,7 +193,7 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
         }
     }
     c.current = None;
-    overlaps(&mut c, scene);
+    overlaps(&mut c, &usable);
     if !scene.objects.iter().any(|o| o.kind.is_source()) {
         c.warning("the scene has no light source");
     }
@@ -200,18 +204,8 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
 
 /// Warns about pairs of solids whose boundaries cross: where they overlap, the medium is
 /// ambiguous. Nested solids (one inside the other) and solids touching along a face are fine.
-fn overlaps(c: &mut Collector, scene: &Scene) {
-    let solids: Vec<(u64, &str, Outline, Aabb)> = scene
-        .objects
-        .iter()
-        .filter_map(|o| match &o.kind {
-            ObjectKind::Solid(s) => s.shape.outline().ok().filter(|ol| ol.validate().is_ok()).map(|ol| {
-                let bb = ol.aabb();
-                (o.id, o.name.as_str(), ol, bb)
-            }),
-            _ => None,
-        })
-        .collect();
+/// `solids`: id, name, outline and its box of every solid with a usable outline.
+fn overlaps(c: &mut Collector, solids: &[(u64, &str, Outline, Aabb)]) {
     for (i, a) in solids.iter().enumerate() {
         for b in &solids[i + 1..] {
             if !a.3.overlaps(&b.3) {
