@@ -14,22 +14,13 @@ use parry2d_f64::math::Vector as PVec;
 use parry2d_f64::query::{Ray, RayCast};
 use parry2d_f64::shape::Polyline;
 use raydraft::geom::{Bvh, Edge, Vec2, unit};
+use raydraft::rng::Rng;
 use raydraft::scene::Shape;
 
 const RAYS: usize = 4096;
 const SEED: u64 = 0x00C0_FFEE;
 const LENGTH: f64 = 100.0;
 const THICKNESS: f64 = 3.0;
-
-/// `SplitMix64`, uniform in [0, 1).
-fn uniform(state: &mut u64) -> f64 {
-    *state = state.wrapping_add(0x9E37_79B9_7F4A_7C15);
-    let mut z = *state;
-    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-    z ^= z >> 31;
-    (z >> 11) as f64 / (1u64 << 53) as f64
-}
 
 /// The plate's closed outline as vertices, and the notch depth.
 fn plate(notches: u32) -> (Vec<Vec2>, f64) {
@@ -54,12 +45,12 @@ fn plate(notches: u32) -> (Vec<Vec2>, f64) {
 
 /// Fixed-seed rays: origins strictly inside the plate above the notch tips, unit directions.
 fn rays(depth: f64) -> Vec<(Vec2, Vec2)> {
-    let mut s = SEED;
+    let mut s = Rng::new(SEED);
     (0..RAYS)
         .map(|_| {
-            let x = 1e-3 + uniform(&mut s) * (LENGTH - 2e-3);
-            let y = depth + 1e-3 + uniform(&mut s) * (THICKNESS - depth - 2e-3);
-            (Vec2::new(x, y), unit(uniform(&mut s) * std::f64::consts::TAU))
+            let x = 1e-3 + s.uniform() * (LENGTH - 2e-3);
+            let y = depth + 1e-3 + s.uniform() * (THICKNESS - depth - 2e-3);
+            (Vec2::new(x, y), unit(s.uniform() * std::f64::consts::TAU))
         })
         .collect()
 }

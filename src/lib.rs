@@ -9,5 +9,6 @@ pub mod analysis;
 pub mod export;
 pub mod geom;
 pub mod optics;
+pub mod rng;
 pub mod scene;
 pub mod trace;

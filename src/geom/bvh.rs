@@ -429,31 +429,21 @@ fn half_perimeter(b: &Aabb) -> f64 {
 mod tests {
     use super::*;
 
-    /// A pseudo-random generator for test data (`SplitMix64`).
-    fn rng(state: &mut u64) -> f64 {
-        *state = state.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = *state;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^= z >> 31;
-        (z >> 11) as f64 / (1u64 << 53) as f64
-    }
-
     #[test]
     fn agrees_with_brute_force() {
-        let mut s = 7u64;
+        let mut r = crate::rng::Rng::new(7);
         let edges: Vec<Edge> = (0..500)
             .map(|_| {
-                let a = Vec2::new(rng(&mut s) * 100.0, rng(&mut s) * 100.0);
-                let b = a + Vec2::new(rng(&mut s) * 10.0 - 5.0, rng(&mut s) * 10.0 - 5.0);
-                let bulge = if rng(&mut s) < 0.3 { rng(&mut s) * 2.0 - 1.0 } else { 0.0 };
+                let a = Vec2::new(r.uniform() * 100.0, r.uniform() * 100.0);
+                let b = a + Vec2::new(r.uniform() * 10.0 - 5.0, r.uniform() * 10.0 - 5.0);
+                let bulge = if r.uniform() < 0.3 { r.uniform() * 2.0 - 1.0 } else { 0.0 };
                 Edge { a, b, bulge }
             })
             .collect();
         let bvh = Bvh::build(&edges);
         for _ in 0..2000 {
-            let o = Vec2::new(rng(&mut s) * 120.0 - 10.0, rng(&mut s) * 120.0 - 10.0);
-            let d = super::super::unit(rng(&mut s) * std::f64::consts::TAU);
+            let o = Vec2::new(r.uniform() * 120.0 - 10.0, r.uniform() * 120.0 - 10.0);
+            let d = super::super::unit(r.uniform() * std::f64::consts::TAU);
             let brute =
                 edges.iter().filter_map(|e| e.cast(o, d, 1e-9, f64::INFINITY)).map(|h| h.t).min_by(f64::total_cmp);
             let got = bvh.cast(o, d, 1e-9, f64::INFINITY).map(|h| h.t);

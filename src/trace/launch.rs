@@ -7,6 +7,7 @@
 
 use super::{Compiled, TraceConfig};
 use crate::geom::{Vec2, unit};
+pub use crate::rng::Rng;
 use crate::scene::{Emission, ObjectKind, Polarization, Scene, TraceMode};
 
 /// A ray ready to trace.
@@ -26,36 +27,12 @@ pub struct Launch {
     pub seed: u64,
 }
 
-/// `SplitMix64`: a small, fast generator with good statistical quality (Steele, Lea & Flood,
-/// "Fast splittable pseudorandom number generators", OOPSLA 2014).
-#[derive(Clone, Debug)]
-pub struct Rng(u64);
-
-impl Rng {
-    pub fn new(seed: u64) -> Self {
-        Self(seed)
-    }
-
-    pub fn next_u64(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-
-    /// Uniform in [0, 1).
-    pub fn uniform(&mut self) -> f64 {
-        (self.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
-    }
-}
-
 /// Mixes several numbers into one seed.
 pub fn mix(parts: &[u64]) -> u64 {
     let mut r = Rng::new(0x5EED_F1A9_E000_0001);
     let mut h = 0u64;
     for &p in parts {
-        r.0 ^= p.wrapping_add(h);
+        r.stir(p.wrapping_add(h));
         h = r.next_u64();
     }
     h
