@@ -101,8 +101,11 @@ fn saving_into_a_missing_folder_fails_with_the_path() {
 fn the_hand_written_version_1_file_loads_and_traces() {
     let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/scene_v1.ron");
     let loaded = file::load(&path).unwrap_or_else(|e| panic!("{e}"));
-    assert_eq!(loaded.scene.version, 1);
+    // Migrated on loading: the current version, and the next id past the largest in the file.
+    assert_eq!(loaded.scene.version, raydraft::scene::SCENE_VERSION);
     assert_eq!(loaded.scene.objects.len(), 9);
+    let max_id = loaded.scene.objects.iter().map(|o| o.id).max().expect("objects");
+    assert_eq!(loaded.scene.next_id, max_id + 1);
     let t = trace(&loaded.scene, &TraceConfig::from_scene(&loaded.scene));
     assert!(t.budget.launched > 0.0);
     assert!(t.budget.closure_error() < 1e-9, "{}", t.budget.closure_error());
@@ -119,9 +122,9 @@ fn errors_name_the_line_and_column() {
 
 #[test]
 fn a_newer_version_is_refused_before_its_fields_are_read() {
-    let text = "(version: 2, objects: [], something_new: (a: 1))";
+    let text = "(version: 3, objects: [], something_new: (a: 1))";
     let err = file::from_str(text, "new.ron").expect_err("newer");
-    assert!(matches!(err, LoadError::NewerVersion { version: 2, .. }), "{err}");
+    assert!(matches!(err, LoadError::NewerVersion { version: 3, .. }), "{err}");
 }
 
 #[test]
@@ -135,4 +138,60 @@ fn infinite_numbers_are_refused_with_their_place() {
 fn warnings_come_back_beside_the_scene() {
     let loaded = file::from_str("(version: 1, objects: [])", "empty.ron").expect("loads");
     assert!(loaded.warnings.iter().any(|w| w.message.contains("no light source")));
+}
+
+/// The text of `scene` written as version 1 would have been: no `next_id`, version 1.
+fn as_version_1(scene: &Scene) -> String {
+    let text = file::to_string(scene).expect("to text");
+    let text = text.replacen(&format!("version: {},", raydraft::scene::SCENE_VERSION), "version: 1,", 1);
+    text.lines().filter(|l| !l.trim_start().starts_with("next_id:")).collect::<Vec<_>>().join("\n")
+}
+
+#[test]
+fn version_1_files_migrate_and_round_trip() {
+    let mut texts: Vec<(String, String)> = demo_scenes()
+        .iter()
+        .map(|p| {
+            let scene = file::load(p).unwrap_or_else(|e| panic!("{e}")).scene;
+            (p.display().to_string(), as_version_1(&scene))
+        })
+        .collect();
+    let v1 = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/scene_v1.ron");
+    texts.push((v1.display().to_string(), std::fs::read_to_string(&v1).expect("read")));
+    for (name, text) in texts {
+        assert!(text.contains("version: 1,") && !text.contains("next_id"), "{name}");
+        let migrated = file::from_str(&text, &name).unwrap_or_else(|e| panic!("{e}")).scene;
+        assert_eq!(migrated.version, 2, "{name}");
+        let max_id = migrated.objects.iter().map(|o| o.id).max().unwrap_or(0);
+        assert_eq!(migrated.next_id, max_id + 1, "{name}");
+        // Saved as version 2, it reads back identical.
+        let saved = file::to_string(&migrated).expect("to text");
+        assert!(saved.contains("version: 2,") && saved.contains("next_id:"), "{name}");
+        let again = file::from_str(&saved, &name).unwrap_or_else(|e| panic!("{e}")).scene;
+        assert_eq!(again, migrated, "{name}");
+    }
+}
+
+#[test]
+fn the_next_id_is_saved_and_survives_deleting_the_newest_object() {
+    let mut scene = Scene::new("ids");
+    let ball = || {
+        ObjectKind::Solid(Solid { shape: Shape::Ball { position: (0.0, 0.0), radius: 1.0 }, material: "water".into() })
+    };
+    scene.add("a", ball());
+    let b = scene.add("b", ball());
+    raydraft::scene::apply(&mut scene, raydraft::scene::Edit::RemoveObject { id: b }).expect("removes");
+    let text = file::to_string(&scene).expect("to text");
+    let back = file::from_str(&text, "ids.ron").expect("loads").scene;
+    assert_eq!(back.next_id, b + 1);
+    let add = raydraft::scene::Edit::add_new(&back, "c", ball());
+    let raydraft::scene::Edit::AddObject { object, .. } = add else { panic!("an add") };
+    assert_eq!(object.id, b + 1, "the deleted object's id is not given again");
+}
+
+#[test]
+fn a_next_id_below_the_ids_in_use_is_raised_on_loading() {
+    let text = "(version: 2, next_id: 1, objects: [(id: 7, name: \"b\", kind: Solid((shape: Ball(position: (0.0, 0.0), radius: 1.0), material: \"water\")))])";
+    let scene = file::from_str(text, "low.ron").expect("loads").scene;
+    assert_eq!(scene.next_id, 8);
 }

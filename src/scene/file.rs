@@ -3,8 +3,8 @@
 //! Reading happens in steps, each with its own error so a message can say exactly what to
 //! fix: the text is read; numbers that are not finite (`NaN`, `inf`, `1e999`) are found with
 //! their line and column; the `version` field is read on its own and decides which loader
-//! parses the rest (so a later schema can migrate older files); the scene is parsed with
-//! unknown fields refused; finally [`validate`] runs and its errors block loading while its
+//! parses the rest: version 2 is the current schema, version 1 (without `next_id`) is parsed
+//! into its own struct and migrated; the scene is parsed with unknown fields refused; finally [`validate`] runs and its errors block loading while its
 //! warnings are handed back beside the scene.
 //!
 //! Writing produces pretty, deterministic RON that reads back to an identical [`Scene`]
@@ -107,12 +107,15 @@ pub fn from_str(text: &str, path_for_messages: &str) -> Result<Loaded, LoadError
     if let Some((line, col, token)) = find_non_finite(text) {
         return Err(LoadError::NotFinite { path, line, col, text: token });
     }
-    let scene = match read_version(text) {
+    let mut scene = match read_version(text) {
+        Some(1) => migrate_v1(parse_v1(text, &path)?),
         // Without a readable version the full parse gives the most precise message.
-        None | Some(1) => parse_v1(text, &path)?,
+        None | Some(2) => parse_v2(text, &path)?,
         Some(0) => return Err(LoadError::BadVersion { path, version: 0 }),
         Some(version) => return Err(LoadError::NewerVersion { path, version }),
     };
+    // A hand-edited file may carry a next id at or below an id in use; never hand it out twice.
+    scene.fix_next_id();
     let problems = validate(&scene);
     if problems.iter().any(|p| p.severity == Severity::Error) {
         return Err(LoadError::Invalid { path, problems });
@@ -130,10 +133,51 @@ fn read_version(text: &str) -> Option<u32> {
     ron::from_str::<VersionOnly>(text).ok().map(|v| v.version)
 }
 
-/// Version 1 is the current schema, so it parses straight into [`Scene`]. A later version
-/// would parse old files into their own structs here and convert them.
-fn parse_v1(text: &str, path: &str) -> Result<Scene, LoadError> {
+/// The current schema parses straight into [`Scene`].
+fn parse_v2(text: &str, path: &str) -> Result<Scene, LoadError> {
     ron::from_str::<Scene>(text).map_err(|e| syntax_error(&e, path))
+}
+
+/// A version-1 scene: as version 2, without `next_id` (ids were then taken as one past the
+/// largest in use, so deleting the newest object let its id be given again).
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct SceneV1 {
+    version: u32,
+    #[serde(default)]
+    title: String,
+    #[serde(default)]
+    notes: String,
+    #[serde(default = "super::default_ambient")]
+    ambient: String,
+    #[serde(default)]
+    materials: Vec<crate::optics::Material>,
+    #[serde(default)]
+    settings: super::TraceSettings,
+    objects: Vec<super::Object>,
+}
+
+fn parse_v1(text: &str, path: &str) -> Result<SceneV1, LoadError> {
+    ron::from_str::<SceneV1>(text).map_err(|e| syntax_error(&e, path))
+}
+
+/// Version 1 → 2: the next id starts one past the largest id in the file; the version
+/// becomes the current one (saving writes version 2).
+fn migrate_v1(v1: SceneV1) -> Scene {
+    debug_assert_eq!(v1.version, 1);
+    let mut scene = Scene {
+        version: SCENE_VERSION,
+        title: v1.title,
+        notes: v1.notes,
+        ambient: v1.ambient,
+        materials: v1.materials,
+        settings: v1.settings,
+        next_id: 1,
+        objects: v1.objects,
+        revision: 0,
+    };
+    scene.fix_next_id();
+    scene
 }
 
 fn syntax_error(e: &ron::error::SpannedError, path: &str) -> LoadError {

@@ -4,7 +4,9 @@
 //! Units in the document are millimetres and degrees; points are `(x, y)` with Y up.
 //! Every object has a stable numeric `id` (never reused within a scene) and a name.
 
+pub mod edit;
 pub mod file;
+pub mod history;
 pub mod shapes;
 pub mod validate;
 
@@ -13,12 +15,14 @@ use serde::{Deserialize, Serialize};
 use crate::geom::{Outline, Vec2};
 use crate::optics::Material;
 
+pub use edit::{Edit, EditError, apply};
 pub use file::{LoadError, Loaded, SaveError};
+pub use history::{Gesture, History};
 pub use shapes::Shape;
 pub use validate::{Problem, validate};
 
 /// The version of the scene schema written by this build.
-pub const SCENE_VERSION: u32 = 1;
+pub const SCENE_VERSION: u32 = 2;
 /// The most rays one source may launch.
 pub const MAX_RAYS_PER_SOURCE: u32 = 10_000_000;
 /// The most wavelengths in one source's spectrum.
@@ -34,7 +38,10 @@ pub fn to_vec(p: Point) -> Vec2 {
 }
 
 /// The whole document.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+///
+/// Two scenes are equal (`==`) when their content is: the [`revision`](Scene::revision)
+/// counter is not content.
+#[derive(Clone, Debug, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Scene {
     /// Schema version; see [`SCENE_VERSION`].
@@ -53,10 +60,25 @@ pub struct Scene {
     pub materials: Vec<Material>,
     #[serde(default)]
     pub settings: TraceSettings,
+    /// The id the next new object gets. It never decreases, so an id is never given twice,
+    /// even after the newest object is deleted. Saved in the file from version 2; a loaded
+    /// file is corrected up to one past its largest id.
+    #[serde(default)]
+    pub next_id: u64,
     pub objects: Vec<Object>,
+    /// Bumped by every applied [`Edit`]; a trace records the revision it was made from. Not
+    /// saved and not part of equality.
+    #[serde(skip)]
+    pub revision: u64,
 }
 
-fn default_ambient() -> String {
+impl PartialEq for Scene {
+    fn eq(&self, other: &Self) -> bool {
+        self.same_content(other) && self.next_id == other.next_id
+    }
+}
+
+pub(crate) fn default_ambient() -> String {
     "air".to_owned()
 }
 
@@ -316,24 +338,48 @@ impl Scene {
             ambient: default_ambient(),
             materials: Vec::new(),
             settings: TraceSettings::default(),
+            next_id: 1,
             objects: Vec::new(),
+            revision: 0,
         }
     }
 
-    /// The next unused object id.
-    pub fn next_id(&self) -> u64 {
-        self.objects.iter().map(|o| o.id).max().map_or(1, |m| m + 1)
+    /// Whether two scenes hold the same document, ignoring the revision counter and the
+    /// next free id (which an undo does not wind back).
+    pub fn same_content(&self, other: &Self) -> bool {
+        self.version == other.version
+            && self.title == other.title
+            && self.notes == other.notes
+            && self.ambient == other.ambient
+            && self.materials == other.materials
+            && self.settings == other.settings
+            && self.objects == other.objects
     }
 
-    /// Adds an object with a fresh id and returns the id.
+    /// Raises `next_id` past every id in use (after loading or building a scene by hand).
+    pub fn fix_next_id(&mut self) {
+        let past_max = self.objects.iter().map(|o| o.id).max().map_or(1, |m| m.saturating_add(1));
+        self.next_id = self.next_id.max(past_max);
+    }
+
+    /// Adds an object with a fresh id and returns the id. This builds a scene directly (for
+    /// files and tests) and does not bump the revision; an editor adds through
+    /// [`Edit::add_new`] so the change can be undone.
     pub fn add(&mut self, name: &str, kind: ObjectKind) -> u64 {
-        let id = self.next_id();
+        self.fix_next_id();
+        let id = self.next_id;
+        self.next_id += 1;
         self.objects.push(Object { id, name: name.to_owned(), kind });
         id
     }
 
     pub fn object(&self, id: u64) -> Option<&Object> {
         self.objects.iter().find(|o| o.id == id)
+    }
+
+    /// Position of the object with `id` in [`Scene::objects`].
+    pub fn object_index(&self, id: u64) -> Option<usize> {
+        self.objects.iter().position(|o| o.id == id)
     }
 
     pub fn object_by_name(&self, name: &str) -> Option<&Object> {
