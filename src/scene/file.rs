@@ -13,14 +13,15 @@
 //! `NAME.ron.bak` and renames the temporary file over the target, so a crash never leaves a
 //! half-written scene behind.
 
+use std::collections::HashMap;
 use std::fmt;
 use std::fs;
-use std::io::{self, Write};
+use std::io::{self, Read, Write};
 use std::path::{Path, PathBuf};
 
 use serde::Deserialize;
 
-use super::validate::Severity;
+use super::validate::{Severity, shorten, shorten_words};
 use super::{Problem, SCENE_VERSION, Scene, validate};
 
 /// A scene read from a file, with the warnings found while checking it.
@@ -41,6 +42,14 @@ pub enum LoadError {
         #[source]
         source: io::Error,
     },
+    #[error("{path}: this is {what}, not a scene file; give the path of a .ron file")]
+    NotAFile { path: String, what: &'static str },
+    #[error(
+        "{path}: the file is larger than {limit} bytes, the most a scene file may have; a scene this size is almost certainly not a scene"
+    )]
+    TooLarge { path: String, limit: u64 },
+    #[error("{path}:{line}:{col}: the file is not UTF-8 text; save it as UTF-8")]
+    NotText { path: String, line: usize, col: usize },
     #[error("{path}:{line}:{col}: {message}")]
     Syntax { path: String, line: usize, col: usize, message: String },
     #[error(
@@ -61,7 +70,9 @@ impl LoadError {
     /// The line and column the error points at, where there is one.
     pub fn position(&self) -> Option<(usize, usize)> {
         match self {
-            Self::Syntax { line, col, .. } | Self::NotFinite { line, col, .. } => Some((*line, *col)),
+            Self::Syntax { line, col, .. } | Self::NotFinite { line, col, .. } | Self::NotText { line, col, .. } => {
+                Some((*line, *col))
+            }
             _ => None,
         }
     }
@@ -88,24 +99,69 @@ impl fmt::Display for ProblemList<'_> {
         let errors = self.0.iter().filter(|p| p.severity == Severity::Error).count();
         write!(f, "the scene has {errors} error{}", if errors == 1 { "" } else { "s" })?;
         for p in self.0 {
-            write!(f, "\n  {p}")?;
+            match p.at {
+                Some((line, col)) => write!(f, "\n  {line}:{col}: {p}")?,
+                None => write!(f, "\n  {p}")?,
+            }
         }
         Ok(())
     }
 }
 
+/// The largest scene file [`load`] reads: 256 MiB.
+pub const MAX_FILE_BYTES: u64 = 256 * 1024 * 1024;
+
 /// Reads and checks the scene file at `path`.
 pub fn load(path: impl AsRef<Path>) -> Result<Loaded, LoadError> {
-    let path = path.as_ref();
-    let text = fs::read_to_string(path).map_err(|source| LoadError::Io { path: path.display().to_string(), source })?;
-    from_str(&text, &path.display().to_string())
+    load_limited(path, MAX_FILE_BYTES)
 }
 
-/// Parses and checks scene text; `path_for_messages` names the text in error messages.
+/// [`load`] with a given size limit in bytes. Only regular files are read (not folders,
+/// devices or pipes), and never more than `max_bytes + 1` bytes of them.
+pub fn load_limited(path: impl AsRef<Path>, max_bytes: u64) -> Result<Loaded, LoadError> {
+    let path = path.as_ref();
+    let shown = path.display().to_string();
+    let io_err = |source: io::Error| LoadError::Io { path: shown.clone(), source };
+    let meta = fs::metadata(path).map_err(io_err)?;
+    if !meta.is_file() {
+        let what = if meta.is_dir() { "a folder" } else { "a device, pipe or socket" };
+        return Err(LoadError::NotAFile { path: shown, what });
+    }
+    if meta.len() > max_bytes {
+        return Err(LoadError::TooLarge { path: shown, limit: max_bytes });
+    }
+    let mut bytes = Vec::new();
+    // The file may grow between the look and the read, so the read is limited as well.
+    fs::File::open(path).and_then(|f| f.take(max_bytes + 1).read_to_end(&mut bytes)).map_err(io_err)?;
+    if bytes.len() as u64 > max_bytes {
+        return Err(LoadError::TooLarge { path: shown, limit: max_bytes });
+    }
+    let text = match String::from_utf8(bytes) {
+        Ok(text) => text,
+        Err(e) => {
+            let good = &e.as_bytes()[..e.utf8_error().valid_up_to()];
+            let (line, col) = line_col_at_end(good);
+            return Err(LoadError::NotText { path: shown, line, col });
+        }
+    };
+    from_str(&text, &shown)
+}
+
+/// Line and column (from 1, columns in characters) just after `bytes`, which are valid UTF-8.
+fn line_col_at_end(bytes: &[u8]) -> (usize, usize) {
+    let line = 1 + bytes.iter().filter(|&&b| b == b'\n').count();
+    let last_line = bytes.iter().rposition(|&b| b == b'\n').map_or(bytes, |i| &bytes[i + 1..]);
+    let col = 1 + last_line.iter().filter(|&&b| b & 0xC0 != 0x80).count();
+    (line, col)
+}
+
+/// Parses and checks scene text; `path_for_messages` names the text in error messages. A
+/// leading byte-order mark is skipped.
 pub fn from_str(text: &str, path_for_messages: &str) -> Result<Loaded, LoadError> {
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let path = path_for_messages.to_owned();
     if let Some((line, col, token)) = find_non_finite(text) {
-        return Err(LoadError::NotFinite { path, line, col, text: token });
+        return Err(LoadError::NotFinite { path, line, col, text: shorten(&token).into_owned() });
     }
     let scene = match read_version(text) {
         // Without a readable version the full parse gives the most precise message.
@@ -113,7 +169,8 @@ pub fn from_str(text: &str, path_for_messages: &str) -> Result<Loaded, LoadError
         Some(0) => return Err(LoadError::BadVersion { path, version: 0 }),
         Some(version) => return Err(LoadError::NewerVersion { path, version }),
     };
-    let problems = validate(&scene);
+    let mut problems = validate(&scene);
+    locate(&mut problems, text);
     if problems.iter().any(|p| p.severity == Severity::Error) {
         return Err(LoadError::Invalid { path, problems });
     }
@@ -158,8 +215,113 @@ fn syntax_error(e: &ron::error::SpannedError, path: &str) -> LoadError {
         path: path.to_owned(),
         line: e.span.start.line,
         col: e.span.start.col,
-        message: format!("{}{hint}", e.code),
+        message: format!("{}{hint}", shorten_words(&e.code.to_string())),
     }
+}
+
+/// Gives each problem about an object the line and column of that object in `text`.
+fn locate(problems: &mut [Problem], text: &str) {
+    if !problems.iter().any(|p| p.object.is_some()) {
+        return;
+    }
+    let places = object_positions(text);
+    for p in problems {
+        if let Some(id) = p.object_id() {
+            p.at = places.get(&id).copied();
+        }
+    }
+}
+
+/// Where each object starts in scene text: for every field `id: N` (only objects have an
+/// `id`), the `(` opening the object if it is the token before, else the `id` itself. Strings
+/// and comments are skipped; the first place of a repeated id is kept. Lines and columns
+/// count from 1, columns in characters.
+fn object_positions(text: &str) -> HashMap<u64, (usize, usize)> {
+    let b = text.as_bytes();
+    let mut places = HashMap::new();
+    let (mut i, mut line, mut col) = (0usize, 1usize, 1usize);
+    // The last `(` seen and whether only blanks came after it.
+    let mut open_paren: Option<(usize, usize)> = None;
+    let step = |i: &mut usize, line: &mut usize, col: &mut usize| {
+        if b[*i] == b'\n' {
+            *line += 1;
+            *col = 1;
+        } else if b[*i] & 0xC0 != 0x80 {
+            *col += 1;
+        }
+        *i += 1;
+    };
+    while i < b.len() {
+        let c = b[i];
+        let next = b.get(i + 1).copied();
+        if c == b'/' && next == Some(b'/') {
+            while i < b.len() && b[i] != b'\n' {
+                step(&mut i, &mut line, &mut col);
+            }
+        } else if c == b'/' && next == Some(b'*') {
+            let mut depth = 0usize;
+            while i < b.len() {
+                if b[i] == b'/' && b.get(i + 1) == Some(&b'*') {
+                    depth += 1;
+                    step(&mut i, &mut line, &mut col);
+                } else if b[i] == b'*' && b.get(i + 1) == Some(&b'/') {
+                    depth = depth.saturating_sub(1);
+                    step(&mut i, &mut line, &mut col);
+                    step(&mut i, &mut line, &mut col);
+                    if depth == 0 {
+                        break;
+                    }
+                    continue;
+                }
+                step(&mut i, &mut line, &mut col);
+            }
+            open_paren = None;
+        } else if c == b'"' {
+            step(&mut i, &mut line, &mut col);
+            while i < b.len() && b[i] != b'"' {
+                if b[i] == b'\\' && i + 1 < b.len() {
+                    step(&mut i, &mut line, &mut col);
+                }
+                step(&mut i, &mut line, &mut col);
+            }
+            if i < b.len() {
+                step(&mut i, &mut line, &mut col);
+            }
+            open_paren = None;
+        } else if c == b'(' {
+            open_paren = Some((line, col));
+            step(&mut i, &mut line, &mut col);
+        } else if c.is_ascii_whitespace() {
+            step(&mut i, &mut line, &mut col);
+        } else if c.is_ascii_alphabetic() || c == b'_' {
+            let start = (line, col);
+            let word_start = i;
+            while i < b.len() && (b[i].is_ascii_alphanumeric() || b[i] == b'_') {
+                step(&mut i, &mut line, &mut col);
+            }
+            if &b[word_start..i] == b"id" {
+                let mut j = i;
+                while j < b.len() && b[j].is_ascii_whitespace() {
+                    j += 1;
+                }
+                if b.get(j) == Some(&b':') {
+                    j += 1;
+                    while j < b.len() && b[j].is_ascii_whitespace() {
+                        j += 1;
+                    }
+                    let digits_end = (j..b.len()).find(|&k| !b[k].is_ascii_digit()).unwrap_or(b.len());
+                    if let Ok(id) = text[j..digits_end].parse::<u64>() {
+                        places.entry(id).or_insert(open_paren.unwrap_or(start));
+                    }
+                }
+            }
+            open_paren = None;
+        } else {
+            step(&mut i, &mut line, &mut col);
+            open_paren = None;
+        }
+    }
+    places
 }
 
 /// The scene as pretty, deterministic RON text.
