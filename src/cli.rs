@@ -479,3 +479,49 @@ fn library_row(m: &Material) -> String {
     let range = format!("{}–{}", m.valid_nm.0, m.valid_nm.1);
     format!("{:<22} {range:>16}  {reference:<9} {}", m.name, m.source)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use raydraft::scene::{BeamSource, Emission, ObjectKind};
+
+    fn beam_scene() -> Scene {
+        let mut scene = Scene::new("beam");
+        scene.add(
+            "beam",
+            ObjectKind::BeamSource(BeamSource {
+                center: (0.0, 0.0),
+                width: 1.0,
+                direction_deg: 0.0,
+                emission: Emission::new(2000, 1.0, 550.0),
+            }),
+        );
+        scene
+    }
+
+    #[test]
+    fn a_background_trace_runs_to_the_end_and_reports_full_progress() {
+        let scene = beam_scene();
+        let compiled = Compiled::new(&scene);
+        let control = Control::new();
+        let t = trace_in_background(&scene, &compiled, &TraceConfig::from_scene(&scene), &control, false);
+        assert!(!t.cancelled);
+        assert_eq!(control.progress(), (2000, 2000));
+    }
+
+    #[test]
+    fn a_stopped_trace_is_marked_partial() {
+        let scene = beam_scene();
+        let compiled = Compiled::new(&scene);
+        let control = Control::new();
+        control.cancel();
+        let t = trace_in_background(&scene, &compiled, &TraceConfig::from_scene(&scene), &control, false);
+        assert!(t.cancelled);
+        let report = budget_report(&scene, &compiled, &t);
+        let text = budget_text(&scene, Path::new("beam.ron"), &t, &report, 0.0);
+        assert!(text.contains("PARTIAL: the trace was stopped"), "{text}");
+        let whole = trace_in_background(&scene, &compiled, &TraceConfig::from_scene(&scene), &Control::new(), false);
+        let report = budget_report(&scene, &compiled, &whole);
+        assert!(!budget_text(&scene, Path::new("beam.ron"), &whole, &report, 0.0).contains("PARTIAL"));
+    }
+}

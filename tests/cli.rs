@@ -385,7 +385,7 @@ fn ctrl_c_stops_a_trace_with_a_partial_budget() {
         .expect("start raydraft");
     let tasks = format!("/proc/{}/task", child.id());
     // The handler's thread and the trace's worker: at least three threads in all.
-    while std::fs::read_dir(&tasks).map(Iterator::count).unwrap_or(0) < 3 {
+    while std::fs::read_dir(&tasks).map_or(0, Iterator::count) < 3 {
         assert!(child.try_wait().expect("wait").is_none(), "raydraft ended before it was interrupted");
         std::thread::sleep(std::time::Duration::from_millis(20));
     }

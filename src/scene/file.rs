@@ -149,7 +149,7 @@ pub fn load_limited(path: impl AsRef<Path>, max_bytes: u64) -> Result<Loaded, Lo
 
 /// Line and column (from 1, columns in characters) just after `bytes`, which are valid UTF-8.
 fn line_col_at_end(bytes: &[u8]) -> (usize, usize) {
-    let line = 1 + bytes.iter().filter(|&&b| b == b'\n').count();
+    let line = bytes.split(|&b| b == b'\n').count();
     let last_line = bytes.iter().rposition(|&b| b == b'\n').map_or(bytes, |i| &bytes[i + 1..]);
     let col = 1 + last_line.iter().filter(|&&b| b & 0xC0 != 0x80).count();
     (line, col)
@@ -510,6 +510,17 @@ mod tests {
         assert_eq!(find_non_finite("(a: -inf)"), Some((1, 5, "-inf".to_owned())));
         assert_eq!(find_non_finite("(a: 1e999)"), Some((1, 5, "1e999".to_owned())));
         assert_eq!(find_non_finite("(a: 1.5e-3, b: 0x1e, c: 2E+2)"), None);
+    }
+
+    #[test]
+    fn objects_are_found_by_their_id_at_their_opening_parenthesis() {
+        let text = "(\n  objects: [\n    (id: 3, name: \"id: 9\"), // id: 8\n    /* (id: 7) */ ( id :12 ),\n    (name: \"é\", id: 5),\n  ],\n)";
+        let places = object_positions(text);
+        assert_eq!(places.get(&3), Some(&(3, 5)));
+        assert_eq!(places.get(&12), Some(&(4, 19)));
+        // Not right after a parenthesis: the `id` itself.
+        assert_eq!(places.get(&5), Some(&(5, 17)));
+        assert_eq!(places.len(), 3, "{places:?}");
     }
 
     #[test]

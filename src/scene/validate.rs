@@ -279,7 +279,7 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
                     Ok(outline) if !(reach(&outline.aabb()) <= MAX_COORDINATE_MM) => extent(outline.aabb(), true),
                     Ok(outline) => match outline.validate() {
                         Err(e) => {
-                            c.err("shape", format!("the {} is not a usable outline: {e}", solid.shape.word()), "")
+                            c.err("shape", format!("the {} is not a usable outline: {e}", solid.shape.word()), "");
                         }
                         Ok(()) => {
                             let bb = outline.aabb();
@@ -686,4 +686,26 @@ pub fn source_wavelengths(scene: &Scene) -> Vec<f64> {
         }
     }
     v
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn long_runs_are_cut_and_short_ones_kept() {
+        let long = "y".repeat(100);
+        assert_eq!(shorten_words(&format!("field `{long}` here")), format!("field `{}… here", "y".repeat(59)));
+        assert_eq!(shorten_words("short words stay"), "short words stay");
+        assert_eq!(shorten(&"é".repeat(61)), format!("{}…", "é".repeat(60)));
+        assert_eq!(shorten("name"), "name");
+    }
+
+    #[test]
+    fn numbers_are_shown_plainly_unless_extreme() {
+        assert_eq!(show(1.5), "1.5");
+        assert_eq!(show(1e308), "1e308");
+        assert_eq!(show(-2e-9), "-2e-9");
+        assert_eq!(show(0.0), "0");
+    }
 }
