@@ -276,8 +276,8 @@ fn trace_in_background(
             ProgressBar::with_draw_target(None, ProgressDrawTarget::stderr()).with_style(style)
         });
         while !worker.is_finished() {
-            if let Some(bar) = &bar {
-                let (done, total) = control.progress();
+            let (done, total) = control.progress();
+            if let (Some(bar), true) = (&bar, total > 0) {
                 bar.set_length(total);
                 bar.set_position(done);
             }

@@ -62,7 +62,7 @@ pub enum LoadError {
     NewerVersion { path: String, version: u32 },
     #[error("{path}: version {version} is not a scene version; the first version is 1")]
     BadVersion { path: String, version: u32 },
-    #[error("{path}: {}", ProblemList(.problems))]
+    #[error("{path}: {}", ProblemList(.path, .problems))]
     Invalid { path: String, problems: Vec<Problem> },
 }
 
@@ -92,15 +92,15 @@ pub enum SaveError {
 }
 
 /// Shows a list of problems, one per line after the first, errors first.
-struct ProblemList<'a>(&'a [Problem]);
+struct ProblemList<'a>(&'a str, &'a [Problem]);
 
 impl fmt::Display for ProblemList<'_> {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let errors = self.0.iter().filter(|p| p.severity == Severity::Error).count();
+        let errors = self.1.iter().filter(|p| p.severity == Severity::Error).count();
         write!(f, "the scene has {errors} error{}", if errors == 1 { "" } else { "s" })?;
-        for p in self.0 {
+        for p in self.1 {
             match p.at {
-                Some((line, col)) => write!(f, "\n  {line}:{col}: {p}")?,
+                Some((line, col)) => write!(f, "\n  {}:{line}:{col}: {p}", self.0)?,
                 None => write!(f, "\n  {p}")?,
             }
         }

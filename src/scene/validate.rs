@@ -133,6 +133,11 @@ fn show(v: f64) -> String {
     if v.is_finite() && v != 0.0 && !(1e-6..1e9).contains(&v.abs()) { format!("{v:e}") } else { format!("{v}") }
 }
 
+/// A computed number to four significant digits, shown as by [`show`].
+fn show_approx(v: f64) -> String {
+    show(format!("{v:.3e}").parse().unwrap_or(v))
+}
+
 struct Collector {
     problems: Vec<Problem>,
     current: Option<(u64, String)>,
@@ -398,8 +403,9 @@ fn ranges_and_sizes(c: &mut Collector, extents: &[Extent]) {
             c.err(
                 "",
                 format!(
-                    "it reaches ({:e}, {:e}) mm, outside the supported area of ±{MAX_COORDINATE_MM:e} mm around the origin",
-                    far.x, far.y
+                    "it reaches ({}, {}) mm, outside the supported area of ±{MAX_COORDINATE_MM:e} mm around the origin",
+                    show(far.x),
+                    show(far.y)
                 ),
                 "move it nearer the origin, or draw the scene in larger units",
             );
@@ -407,8 +413,9 @@ fn ranges_and_sizes(c: &mut Collector, extents: &[Extent]) {
             c.err(
                 "",
                 format!(
-                    "it is {:.3e} mm across, less than {MIN_RELATIVE_SIZE:e} of the scene's size ({scene_size:.3e} mm), too small for the trace to resolve",
-                    e.bbox.extent()
+                    "it is {} mm across, less than {MIN_RELATIVE_SIZE:e} of the scene's size ({} mm), too small for the trace to resolve",
+                    show_approx(e.bbox.extent()),
+                    show_approx(scene_size)
                 ),
                 "make it larger, or move far-away objects nearer",
             );
@@ -707,5 +714,6 @@ mod tests {
         assert_eq!(show(1e308), "1e308");
         assert_eq!(show(-2e-9), "-2e-9");
         assert_eq!(show(0.0), "0");
+        assert_eq!(show_approx(65.000_000_000_000_5), "65");
     }
 }
