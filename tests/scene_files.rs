@@ -218,7 +218,7 @@ fn problems_carry_the_object_the_field_a_hint_and_the_place() {
     assert_eq!((p.field.as_deref(), p.object_id(), p.at), (Some("settings.threshold"), None, None), "{p}");
 
     let problems = problems_of(&scene_text("", CAUCHY, "position: (0.0, 0.0), apex_deg: 200.0, side: 30.0", LINE));
-    assert_eq!(problems[0].field.as_deref(), Some("shape"), "{}", problems[0]);
+    assert_eq!(problems[0].field.as_deref(), Some("shape.apex_deg"), "{}", problems[0]);
 
     let problems = problems_of(&scene_text("", "Cauchy(a: -1.5, b_um2: 0.0, c_um4: 0.0)", PRISM, LINE));
     let p = &problems[0];

@@ -171,6 +171,45 @@ fn finite_point(p: (f64, f64)) -> bool {
     p.0.is_finite() && p.1.is_finite()
 }
 
+/// The field of a shape that a message from [`Shape::outline`] is about (`"shape.apex_deg"`),
+/// found by the field's name or the words used for it; `"shape"` when none is named.
+fn shape_field(message: &str) -> String {
+    // Longer names first, so that "thickness_start" is not taken for "thickness".
+    const NAMES: [(&str, &str); 26] = [
+        ("thickness_start", "thickness_start"),
+        ("thickness_end", "thickness_end"),
+        ("notch_angle_deg", "notch_angle_deg"),
+        ("notch angle", "notch_angle_deg"),
+        ("notch_start", "notch_start"),
+        ("notch_end", "notch_end"),
+        ("notch depth", "notch_depth"),
+        ("notches", "notches"),
+        ("density_ratio", "density_ratio"),
+        ("bend radius", "bend_radius"),
+        ("bend_deg", "bend_deg"),
+        ("length_in", "length_in"),
+        ("length_out", "length_out"),
+        ("apex angle", "apex_deg"),
+        // A lens radius message also names the diameter it is compared with.
+        ("r1", "r1"),
+        ("r2", "r2"),
+        ("diameter", "diameter"),
+        ("thickness", "thickness"),
+        ("bulge", "bulges"),
+        ("position", "position"),
+        ("height", "height"),
+        ("length", "length"),
+        ("radius", "radius"),
+        ("width", "width"),
+        ("side", "side"),
+        ("points", "points"),
+    ];
+    NAMES
+        .iter()
+        .find(|(word, _)| message.contains(word))
+        .map_or_else(|| "shape".to_owned(), |(_, f)| format!("shape.{f}"))
+}
+
 /// The largest |x| or |y| in a box (infinite for an empty one).
 fn reach(b: &Aabb) -> f64 {
     b.min.x.abs().max(b.min.y.abs()).max(b.max.x.abs()).max(b.max.y.abs())
@@ -279,7 +318,7 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
                     check_bulges(&mut c, "shape.bulges", bulges);
                 }
                 match solid.shape.outline() {
-                    Err(e) => c.err("shape", format!("the {} cannot be built: {e}", solid.shape.word()), ""),
+                    Err(e) => c.err(&shape_field(&e), format!("the {} cannot be built: {e}", solid.shape.word()), ""),
                     // Out of range, rounding spoils the outline checks; the range check says why.
                     Ok(outline) if !(reach(&outline.aabb()) <= MAX_COORDINATE_MM) => extent(outline.aabb(), true),
                     Ok(outline) => match outline.validate() {
@@ -715,5 +754,24 @@ mod tests {
         assert_eq!(show(-2e-9), "-2e-9");
         assert_eq!(show(0.0), "0");
         assert_eq!(show_approx(65.000_000_000_000_5), "65");
+    }
+
+    #[test]
+    fn shape_messages_name_their_field() {
+        let field = |shape: Shape| shape.outline().map_or_else(|e| shape_field(&e), |_| "built".to_owned());
+        let prism = Shape::Prism { position: (0.0, 0.0), apex_deg: 200.0, side: 3.0, rotation_deg: 0.0 };
+        assert_eq!(field(prism), "shape.apex_deg");
+        let wedge = Shape::Wedge {
+            position: (0.0, 0.0),
+            length: -1.0,
+            thickness_start: 1.0,
+            thickness_end: 1.0,
+            rotation_deg: 0.0,
+        };
+        assert_eq!(field(wedge), "shape.length");
+        let lens =
+            Shape::Lens { position: (0.0, 0.0), diameter: 10.0, thickness: 1.0, r1: 2.0, r2: 0.0, rotation_deg: 0.0 };
+        assert_eq!(field(lens), "shape.r1");
+        assert_eq!(field(Shape::Ball { position: (0.0, 0.0), radius: -1.0 }), "shape.radius");
     }
 }
