@@ -303,12 +303,16 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
                     Some(m) => {
                         for &nm in &wavelengths {
                             if !m.is_in_valid_range(nm) {
-                                c.warning(format!(
-                                    "{nm} nm is outside the range where the data for \"{}\" are valid ({}–{} nm)",
-                                    shorten(&m.name),
-                                    m.valid_nm.0,
-                                    m.valid_nm.1
-                                ));
+                                c.warn(
+                                    "material",
+                                    format!(
+                                        "{nm} nm is outside the range where the data for \"{}\" are valid ({}–{} nm)",
+                                        shorten(&m.name),
+                                        m.valid_nm.0,
+                                        m.valid_nm.1
+                                    ),
+                                    "",
+                                );
                             }
                         }
                         check_indices(&mut c, "material", &m, &wavelengths);
