@@ -270,6 +270,7 @@ pub enum Polarization {
 
 /// One line of a source's spectrum.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Line {
     pub nm: f64,
     /// Relative weight; the source's power is shared in proportion to the weights.
