@@ -2,7 +2,7 @@
 //! its owner and role, the nesting of solids, and an index table per wavelength and medium.
 
 use crate::geom::{Aabb, Bvh, BvhHit, Edge, Outline, Vec2};
-use crate::scene::{ObjectKind, Scene, validate};
+use crate::scene::{ObjectKind, Scene, Shape, validate};
 
 /// What an edge does to light.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -33,7 +33,8 @@ pub struct EdgeInfo {
     pub edge: Edge,
     /// Index of the owning object in `scene.objects`.
     pub object: u32,
-    /// Index of the edge within its object.
+    /// Index of the edge within its object, in the order the file gives the edges (a free
+    /// outline written clockwise is run the other way internally; see [`file_edge_order`]).
     pub index: u32,
     pub role: Role,
 }
@@ -151,8 +152,10 @@ impl Compiled {
                         continue;
                     };
                     let k = solids.len() as u32;
+                    let file_edge = file_edge_order(&s.shape, outline.len());
                     for (i, e) in outline.edges().enumerate() {
-                        edges.push(EdgeInfo { edge: e, object: oi32, index: i as u32, role: Role::Solid { solid: k } });
+                        let index = file_edge(i);
+                        edges.push(EdgeInfo { edge: e, object: oi32, index, role: Role::Solid { solid: k } });
                     }
                     let area = outline.signed_area();
                     solids.push(SolidInfo {
@@ -362,6 +365,21 @@ impl Compiled {
         }
         false
     }
+}
+
+/// Maps the position of an edge in a solid's counter-clockwise outline (as
+/// [`Shape::outline`] gives it) to its number in the file: a free outline written clockwise
+/// is reversed, new edge k being old edge (n − k − 1) mod n. Primitives are generated
+/// counter-clockwise and keep their numbers.
+pub fn file_edge_order(shape: &Shape, n: usize) -> impl Fn(usize) -> u32 + use<> {
+    let reversed = match shape {
+        Shape::Outline { points, bulges } => {
+            let bulges = if bulges.len() == points.len() { bulges.clone() } else { vec![0.0; points.len()] };
+            Outline { vertices: points.iter().map(|&p| crate::scene::to_vec(p)).collect(), bulges }.signed_area() < 0.0
+        }
+        _ => false,
+    };
+    move |k| if reversed && n > 0 { ((2 * n - k - 1) % n) as u32 } else { k as u32 }
 }
 
 fn source_points(kind: &ObjectKind) -> Vec<(f64, f64)> {
