@@ -25,3 +25,38 @@ fn a_clockwise_outline_reports_its_edges_in_file_order() {
         assert_eq!(e.edge, 1, "the top face is edge 1 in the file");
     }
 }
+
+#[test]
+fn ids_survive_deleting_an_earlier_object() {
+    let mut s = scene();
+    let first = common::solid(&mut s, "spare block", common::rect(-50.0, -50.0, 5.0, 5.0), 1.5);
+    let block = common::solid(&mut s, "block", common::rect(0.0, 0.0, 10.0, 10.0), 1.5);
+    let det = common::detector(&mut s, "screen", (-10.0, -20.0), (10.0, -20.0));
+    let sink = common::absorber(&mut s, "stop", (-10.0, 20.0), (10.0, 20.0));
+    let lamp = beam(&mut s, (0.0, 8.0), 2.0, -90.0, 4, Polarization::Unpolarized);
+    let check = |s: &raydraft::scene::Scene| {
+        let t = run(s, &config(s, TraceMode::Tree));
+        assert!(t.rays.iter().all(|r| r.source == lamp), "rays name their source by id");
+        assert_eq!(t.detectors.len(), 1);
+        assert_eq!(t.detectors[0].object, det);
+        assert!(t.budget.detected[0] > 0.0);
+        let hit_ids: Vec<u64> = t.events.iter().filter_map(|e| t.object_id_of(e)).collect();
+        assert!(hit_ids.contains(&block) && hit_ids.contains(&det) && hit_ids.contains(&lamp));
+        assert!(!hit_ids.contains(&first));
+        // Medium 1 is the block (the only solid left after the deletion, the second before).
+        let block_medium = t.medium_objects.iter().position(|&o| o == Some(block)).expect("the block's medium");
+        assert!(t.events.iter().any(|e| e.medium as usize == block_medium));
+        // Power reflected back up reaches the absorber, reported by its id.
+        let absorbed: f64 = t.budget.absorbed_by_object.iter().filter(|(id, _)| *id == sink).map(|(_, w)| w).sum();
+        assert!(absorbed > 0.0, "{:?}", t.budget.absorbed_by_object);
+        assert_eq!(t.revision, s.revision);
+        assert!(!t.is_stale(s));
+        t
+    };
+    let before = check(&s);
+    s.objects.remove(0);
+    s.revision += 1;
+    assert!(before.is_stale(&s), "a trace of an older revision is stale");
+    let after = check(&s);
+    assert_eq!(before.budget.detected, after.budget.detected);
+}
