@@ -18,7 +18,7 @@ use raydraft::optics::{Material, library, library_material};
 use raydraft::scene::file::{self, LoadError};
 use raydraft::scene::validate::Severity;
 use raydraft::scene::{Loaded, MAX_RAYS_PER_SOURCE, Scene, TraceMode};
-use raydraft::trace::{Compiled, Control, Trace, TraceConfig, trace_compiled};
+use raydraft::trace::{Trace, TraceConfig};
 
 /// Raydraft: a 2D ray-trace sketchpad for prisms, light guides, windows and small lens stacks.
 ///
@@ -178,10 +178,9 @@ fn trace(args: &TraceArgs) -> Result<ExitCode, Failure> {
     config.rays = args.rays;
     config.threads = args.threads;
     let started = Instant::now();
-    let compiled = Compiled::new(scene);
-    let result = trace_compiled(scene, &compiled, &config, &Control::new());
+    let result = raydraft::trace::trace(scene, &config);
     let elapsed = started.elapsed();
-    let report = budget_report(scene, &compiled, &result);
+    let report = budget_report(&result);
 
     if let Some(path) = &args.svg {
         let svg = export::svg::render(scene, &result, &export::svg::SvgOptions::default());
@@ -191,7 +190,7 @@ fn trace(args: &TraceArgs) -> Result<ExitCode, Failure> {
         write_output(path, &export::csv::detectors(scene, &result), "detector table")?;
     }
     if let Some(path) = &args.events {
-        write_output(path, &export::csv::events(scene, &result), "event table")?;
+        write_output(path, &export::csv::events(&result), "event table")?;
     }
     if args.json {
         let value = export::json::budget(&report, &result);
@@ -235,13 +234,13 @@ pub fn budget_text(scene: &Scene, path: &Path, trace: &Trace, report: &BudgetRep
     };
     let _ = writeln!(out, "power budget:");
     row(&mut out, 0, "launched", launched);
-    for (name, w) in &report.detected {
-        row(&mut out, 0, &format!("detected by \"{name}\""), *w);
+    for d in &report.detected {
+        row(&mut out, 0, &format!("detected by \"{}\"", d.name), d.power_w);
     }
     row(&mut out, 0, "escaped", report.escaped_w);
     row(&mut out, 0, "absorbed", report.absorbed_w);
-    for (name, w) in &report.absorbed_by {
-        row(&mut out, 2, name, *w);
+    for a in &report.absorbed_by {
+        row(&mut out, 2, &a.label, a.power_w);
     }
     row(&mut out, 0, "trapped (still guided at the event limit)", report.trapped_w);
     row(&mut out, 0, "below threshold", report.below_threshold_w);

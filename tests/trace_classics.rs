@@ -292,7 +292,7 @@ fn zero_length_edges_and_repeated_vertices_are_harmless() {
     beam(&mut s, (-5.0, 5.0), 0.0, 0.0, 1, Polarization::Unpolarized);
     for mode in [TraceMode::Principal, TraceMode::Tree, TraceMode::MonteCarlo] {
         let t = run(&s, &config(&s, mode));
-        assert!(t.events.iter().all(|e| e.edge != 1 || e.object != 0), "the zero-length edge was hit");
+        assert!(t.events.iter().all(|e| e.edge != 1 || e.object_slot != 0), "the zero-length edge was hit");
     }
 }
 

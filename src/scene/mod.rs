@@ -54,6 +54,9 @@ pub struct Scene {
     #[serde(default)]
     pub settings: TraceSettings,
     pub objects: Vec<Object>,
+    /// Bumped on every edit; a trace records the revision it was made from. Not saved.
+    #[serde(skip)]
+    pub revision: u64,
 }
 
 fn default_ambient() -> String {
@@ -317,6 +320,7 @@ impl Scene {
             materials: Vec::new(),
             settings: TraceSettings::default(),
             objects: Vec::new(),
+            revision: 0,
         }
     }
 

@@ -6,7 +6,7 @@ use super::launch::{Launch, Rng};
 use super::{Budget, DetectorHit, Event, EventKind, NONE, RayRecord, TraceConfig};
 use crate::geom::{BvhHit, Vec2, cross};
 use crate::optics::{fresnel, reflect, refract};
-use crate::scene::{Scene, TraceMode};
+use crate::scene::TraceMode;
 
 /// What one chunk produced; ray ids and event positions are local to the chunk.
 pub struct ChunkResult {
@@ -20,10 +20,11 @@ pub struct ChunkResult {
 
 pub struct Tracer<'a> {
     c: &'a Compiled,
+    /// Id of each object slot (as in the file).
+    object_ids: &'a [u64],
     mode: TraceMode,
     threshold: f64,
     max_depth: u32,
-    n_objects: usize,
     /// Smallest distance a ray must travel before it can hit anything.
     t_min: f64,
     /// Hits closer together than this along a ray are one event (a vertex, touching faces).
@@ -134,7 +135,9 @@ impl Out<'_> {
     /// Power absorbed by a thin element.
     fn absorbed_by(&mut self, object: usize, w: f64) {
         self.budget.absorbed += w;
-        self.budget.absorbed_by_object[object] += w;
+        if let Some(a) = self.budget.absorbed_by_object.get_mut(object) {
+            a.1 += w;
+        }
     }
 
     fn event(&mut self, e: Event) {
@@ -164,7 +167,7 @@ fn ev(
         before_s: before.0 as f32,
         before_p: before.1 as f32,
         ray: 0,
-        object,
+        object_slot: object,
         edge,
         medium,
         n1: n.0 as f32,
@@ -181,13 +184,13 @@ enum Next {
 }
 
 impl<'a> Tracer<'a> {
-    pub fn new(scene: &Scene, c: &'a Compiled, cfg: &TraceConfig) -> Self {
+    pub fn new(c: &'a Compiled, cfg: &TraceConfig, object_ids: &'a [u64]) -> Self {
         Self {
             c,
+            object_ids,
             mode: cfg.mode,
             threshold: if cfg.threshold.is_finite() { cfg.threshold.max(0.0) } else { 0.0 },
             max_depth: cfg.max_depth.max(1),
-            n_objects: c.edges.iter().map(|e| e.object as usize + 1).max().unwrap_or(0).max(scene.objects.len()),
             t_min: 1e-10 * c.scale,
             group_eps: 1e-9 * c.scale,
             probe: 1e-7 * c.scale,
@@ -195,7 +198,7 @@ impl<'a> Tracer<'a> {
     }
 
     pub fn trace_chunk(&self, launches: &[Launch], store: bool) -> ChunkResult {
-        let mut budget = Budget::sized(self.c.alpha.len(), self.n_objects, self.c.detectors.len());
+        let mut budget = Budget::sized(self.c.alpha.len(), self.object_ids, self.c.detectors.len());
         let mut hits = vec![Vec::new(); self.c.detectors.len()];
         let mut rays = Vec::new();
         let mut events = Vec::new();
@@ -446,7 +449,7 @@ impl<'a> Tracer<'a> {
             out.rays.push(RayRecord {
                 id,
                 parent: ray.parent,
-                source: ray.source,
+                source: self.object_ids.get(ray.source as usize).copied().unwrap_or_default(),
                 wavelength_nm: self.c.wavelengths[wl],
                 first_event,
                 n_events: (out.events.len() - first_event) as u32,

@@ -123,9 +123,11 @@ pub struct Event {
     pub before_s: f32,
     pub before_p: f32,
     pub ray: u32,
-    /// Object index in `scene.objects` ([`NONE`] for launch, escape, limit).
-    pub object: u32,
-    /// Edge index within the object.
+    /// The object's slot in [`Trace::objects`] ([`NONE`] for escape, limit, dropped); its id
+    /// is [`Trace::object_id_of`]. A slot, not an id, so that an event stays 64 bytes.
+    pub object_slot: u32,
+    /// Edge number within the object, in the order the file gives the edges ([`NONE`] where
+    /// no edge is involved).
     pub edge: u32,
     /// The medium the ray travels in after this event (0 ambient, k + 1 solid k).
     pub medium: u32,
@@ -150,8 +152,8 @@ pub struct RayRecord {
     pub id: u32,
     /// The ray this one split off from ([`NONE`] for a launched ray).
     pub parent: u32,
-    /// Object index of the source.
-    pub source: u32,
+    /// Id of the source object (as in the file).
+    pub source: u64,
     pub wavelength_nm: f64,
     /// Index of the first stored event and number stored.
     pub first_event: usize,
@@ -167,8 +169,8 @@ pub struct Budget {
     pub absorbed: f64,
     /// Absorbed inside the media, per medium (0 ambient, k + 1 solid k).
     pub absorbed_in_media: Vec<f64>,
-    /// Absorbed by thin elements, per object index.
-    pub absorbed_by_object: Vec<f64>,
+    /// Absorbed by thin elements: (object id, W) for every object of the scene, in scene order.
+    pub absorbed_by_object: Vec<(u64, f64)>,
     pub trapped: f64,
     pub below_threshold: f64,
     /// Per detector (same order as [`Trace::detectors`]).
@@ -176,10 +178,10 @@ pub struct Budget {
 }
 
 impl Budget {
-    fn sized(media: usize, objects: usize, detectors: usize) -> Self {
+    fn sized(media: usize, object_ids: &[u64], detectors: usize) -> Self {
         Self {
             absorbed_in_media: vec![0.0; media],
-            absorbed_by_object: vec![0.0; objects],
+            absorbed_by_object: object_ids.iter().map(|&id| (id, 0.0)).collect(),
             detected: vec![0.0; detectors],
             ..Self::default()
         }
@@ -195,11 +197,16 @@ impl Budget {
             *a += b;
         }
         for (a, b) in self.absorbed_by_object.iter_mut().zip(&o.absorbed_by_object) {
-            *a += b;
+            a.1 += b.1;
         }
         for (a, b) in self.detected.iter_mut().zip(&o.detected) {
             *a += b;
         }
+    }
+
+    /// Power absorbed by the thin element with id `object_id`.
+    pub fn absorbed_by(&self, object_id: u64) -> f64 {
+        self.absorbed_by_object.iter().filter(|(id, _)| *id == object_id).map(|(_, w)| w).sum()
     }
 
     pub fn detected_total(&self) -> f64 {
@@ -232,23 +239,40 @@ pub struct DetectorHit {
 /// Everything one detector saw.
 #[derive(Clone, Debug, PartialEq)]
 pub struct DetectorResult {
-    /// Object index and name.
-    pub object: u32,
+    /// Id of the detector object (as in the file) and its name.
+    pub object: u64,
     pub name: String,
     pub length: f64,
     pub hits: Vec<DetectorHit>,
+}
+
+/// An object of the traced scene as the trace saw it.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct TracedObject {
+    /// Its id in the file.
+    pub id: u64,
+    pub name: String,
+    /// Its kind in words ("solid", "absorber", …).
+    pub kind: &'static str,
 }
 
 /// The result of a trace.
 #[derive(Clone, Debug)]
 pub struct Trace {
     pub mode: TraceMode,
+    /// The scene's revision when it was traced; see [`Trace::is_stale`].
+    pub revision: u64,
+    /// Every object of the scene in scene order; [`Event::object_slot`] indexes this.
+    pub objects: Vec<TracedObject>,
     pub rays: Vec<RayRecord>,
     pub events: Vec<Event>,
     pub budget: Budget,
     pub detectors: Vec<DetectorResult>,
     /// Names of the media, 0 the ambient.
     pub medium_names: Vec<String>,
+    /// The object each medium belongs to: `None` for medium 0 (the ambient), then the id of
+    /// the solid of each medium k + 1.
+    pub medium_objects: Vec<Option<u64>>,
     pub wavelengths: Vec<f64>,
     /// Rays traced (launched and split), including those whose events were not stored.
     pub n_rays: u64,
@@ -265,6 +289,26 @@ impl Trace {
     /// The stored events of a ray.
     pub fn events_of(&self, ray: &RayRecord) -> &[Event] {
         &self.events[ray.first_event..ray.first_event + ray.n_events as usize]
+    }
+
+    /// The object an event happened at, if any.
+    pub fn object_of(&self, event: &Event) -> Option<&TracedObject> {
+        self.objects.get(event.object_slot as usize)
+    }
+
+    /// The id (as in the file) of the object an event happened at, if any.
+    pub fn object_id_of(&self, event: &Event) -> Option<u64> {
+        self.object_of(event).map(|o| o.id)
+    }
+
+    /// The traced object with id `id`.
+    pub fn object(&self, id: u64) -> Option<&TracedObject> {
+        self.objects.iter().find(|o| o.id == id)
+    }
+
+    /// Whether `scene` has changed since this trace was made from it (by its revision).
+    pub fn is_stale(&self, scene: &Scene) -> bool {
+        scene.revision != self.revision
     }
 }
 
@@ -375,15 +419,21 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
     let launcher = launch::Launcher::new(scene, compiled, config);
     control.total.store(launcher.len(), Ordering::Relaxed);
     control.done.store(0, Ordering::Relaxed);
-    let tracer = engine::Tracer::new(scene, compiled, config);
+    let object_ids: Vec<u64> = scene.objects.iter().map(|o| o.id).collect();
+    let tracer = engine::Tracer::new(compiled, config, &object_ids);
     let n_chunks = launcher.len().div_ceil(CHUNK as u64);
     let chunks: Vec<(u64, u64)> = (0..n_chunks).map(|k| (k * CHUNK as u64, (k + 1) * CHUNK as u64)).collect();
     let mut m = Merged {
-        budget: Budget::sized(compiled.alpha.len(), scene.objects.len(), compiled.detectors.len()),
+        budget: Budget::sized(compiled.alpha.len(), &object_ids, compiled.detectors.len()),
         detectors: compiled
             .detectors
             .iter()
-            .map(|d| DetectorResult { object: d.object, name: d.name.clone(), length: d.length, hits: Vec::new() })
+            .map(|d| DetectorResult {
+                object: object_ids.get(d.object as usize).copied().unwrap_or_default(),
+                name: d.name.clone(),
+                length: d.length,
+                hits: Vec::new(),
+            })
             .collect(),
         rays: Vec::new(),
         events: Vec::new(),
@@ -464,13 +514,24 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
     if err > 1e-9 {
         warnings.push(format!("the power budget closes only to {err:.2e} relative"));
     }
+    let objects = scene
+        .objects
+        .iter()
+        .map(|o| TracedObject { id: o.id, name: o.name.clone(), kind: o.kind.word() })
+        .collect();
+    let medium_objects = std::iter::once(None)
+        .chain(compiled.solids.iter().map(|s| object_ids.get(s.object as usize).copied()))
+        .collect();
     Trace {
         mode: config.mode,
+        revision: scene.revision,
+        objects,
         rays,
         events,
         budget,
         detectors,
         medium_names: compiled.medium_names.clone(),
+        medium_objects,
         wavelengths: compiled.wavelengths.clone(),
         n_rays,
         n_events,
