@@ -14,8 +14,7 @@ use crate::trace::{EventKind, NONE, Trace};
 pub const DETECTOR_HEADER: &str = "detector,bin,position_mm,irradiance_w_per_mm,angle_deg,intensity_w_per_deg";
 
 /// Header of the event table.
-pub const EVENT_HEADER: &str =
-    "ray,parent,x_mm,y_mm,direction_deg,wavelength_nm,power_s_w,power_p_w,kind,object_id,object,edge,n1,n2,incidence_deg";
+pub const EVENT_HEADER: &str = "ray,parent,x_mm,y_mm,direction_deg,wavelength_nm,power_s_w,power_p_w,kind,object_id,object,edge,n1,n2,incidence_deg";
 
 /// Quotes a text field if it needs it.
 fn field(text: &str) -> String {
@@ -80,8 +79,9 @@ pub fn events(trace: &Trace) -> String {
             let direction = direction.and_then(angle_deg).map_or_else(String::new, |a| a.to_string());
             let (s, p) = if e.kind.is_end() { (e.before_s, e.before_p) } else { (e.after_s, e.after_p) };
             let parent = if ray.parent == NONE { String::new() } else { ray.parent.to_string() };
-            let (object_id, object) =
-                trace.object_of(e).map_or_else(|| (String::new(), String::new()), |o| (o.id.to_string(), field(&o.name)));
+            let (object_id, object) = trace
+                .object_of(e)
+                .map_or_else(|| (String::new(), String::new()), |o| (o.id.to_string(), field(&o.name)));
             let edge = if e.edge == NONE { String::new() } else { e.edge.to_string() };
             let _ = writeln!(
                 out,

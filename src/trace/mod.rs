@@ -13,7 +13,7 @@ mod engine;
 mod job;
 mod launch;
 
-use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
+use std::sync::atomic::{AtomicBool, AtomicU64, AtomicUsize, Ordering};
 
 use rayon::prelude::*;
 
@@ -29,6 +29,9 @@ const CHUNK: usize = 8;
 /// Chunks per batch (the unit of progress, cancellation and the event cap).
 const BATCH: usize = 64;
 
+/// Default of [`TraceConfig::max_branches_per_ray`].
+pub const DEFAULT_MAX_BRANCHES_PER_RAY: u32 = 100_000;
+
 /// Settings for one trace; [`TraceConfig::from_scene`] takes them from the scene file.
 #[derive(Clone, Debug, PartialEq)]
 pub struct TraceConfig {
@@ -40,6 +43,10 @@ pub struct TraceConfig {
     pub seed: u64,
     /// Most events kept for drawing and export.
     pub max_stored_events: usize,
+    /// Tree mode: most branches split off one launched ray. Beyond it a ray keeps only its
+    /// transmitted part and the reflected part counts as below threshold (with a warning),
+    /// so a trace stays bounded whatever the threshold and depth.
+    pub max_branches_per_ray: u32,
     /// If set, every source launches this many rays per wavelength instead of its own count.
     pub rays: Option<u32>,
     /// Threads to use; `None` uses rayon's global pool.
@@ -55,6 +62,7 @@ impl TraceConfig {
             max_depth: s.max_depth,
             seed: s.seed,
             max_stored_events: s.max_stored_events,
+            max_branches_per_ray: DEFAULT_MAX_BRANCHES_PER_RAY,
             rays: None,
             threads: None,
         }
@@ -280,6 +288,10 @@ pub struct Trace {
     pub n_events: u64,
     /// Whether the event cap was reached.
     pub events_truncated: bool,
+    /// Most events held at once by the unmerged chunk results of one batch (with a chunk
+    /// traced again at the cap): at most twice `max_stored_events`, however many events the
+    /// rays make.
+    pub events_held_peak: usize,
     /// Whether the trace was stopped early; the budget then covers only the rays traced.
     pub cancelled: bool,
     pub warnings: Vec<String>,
@@ -359,24 +371,35 @@ struct Merged {
     events: Vec<Event>,
     n_rays: u64,
     n_events: u64,
+    n_cut_branches: u64,
     truncated: bool,
     cancelled: bool,
     max_stored_events: usize,
+    /// Most events held at once by the unmerged results of one batch (re-traced chunks
+    /// included).
+    held_peak: usize,
 }
 
+/// What one chunk of a batch gave: its launched-ray range and result (`None` if it was
+/// stopped by cancellation).
+type ChunkOutcome = ((u64, u64), Option<engine::ChunkResult>);
+
 impl Merged {
-    /// Appends a batch of chunk results (`store`: whether its events were kept); returns
-    /// whether to go on (false once a chunk was stopped by cancellation).
-    fn add(&mut self, results: Vec<Option<engine::ChunkResult>>, store: bool) -> bool {
-        if store && !self.truncated {
-            // One allocation per batch instead of repeated doubling (and copying) of the lists.
-            let room = self.max_stored_events.saturating_sub(self.events.len());
-            let events: usize = results.iter().flatten().map(|r| r.events.len()).sum();
-            let rays: usize = results.iter().flatten().map(|r| r.rays.len()).sum();
-            self.events.reserve(events.min(room));
-            self.rays.reserve(rays);
-        }
-        for r in results {
+    /// Appends a batch of chunk results (`store`: whether their events may be kept), keeping
+    /// complete rays in launch order while they fit under the cap. A chunk that stopped
+    /// keeping events early (its share of the room ran out while other chunks ran) is traced
+    /// again by `retrace` with exactly the room left, so the events kept do not depend on
+    /// timing or the number of threads. Returns whether to go on (false once a chunk was
+    /// stopped by cancellation).
+    fn add(
+        &mut self,
+        results: Vec<ChunkOutcome>,
+        store: bool,
+        retrace: &dyn Fn((u64, u64), usize) -> engine::ChunkResult,
+    ) -> bool {
+        let held: usize = results.iter().filter_map(|(_, r)| r.as_ref()).map(|r| r.events.len()).sum();
+        self.held_peak = self.held_peak.max(held);
+        for (range, r) in results {
             let Some(r) = r else {
                 self.cancelled = true;
                 continue;
@@ -386,17 +409,29 @@ impl Merged {
                 d.hits.extend(h);
             }
             self.n_events += r.n_events;
+            self.n_cut_branches += r.n_cut_branches;
             let ray_base = self.n_rays as u32;
             self.n_rays += r.n_rays;
             if self.truncated || !store {
                 continue;
             }
-            if self.events.len() + r.events.len() > self.max_stored_events {
+            let room = self.max_stored_events.saturating_sub(self.events.len());
+            let (rays, events, all_stored) = if r.all_stored {
+                (r.rays, r.events, true)
+            } else {
+                drop(r.events);
+                let again = retrace(range, room);
+                self.held_peak = self.held_peak.max(held + again.events.len());
+                (again.rays, again.events, again.all_stored)
+            };
+            // The rays whose events all fit.
+            let fit = rays.partition_point(|ray| ray.first_event + ray.n_events as usize <= room);
+            let n_events_kept = rays[..fit].last().map_or(0, |ray| ray.first_event + ray.n_events as usize);
+            if fit < rays.len() || !all_stored {
                 self.truncated = true;
-                continue;
             }
             let event_base = self.events.len();
-            self.rays.extend(r.rays.into_iter().map(|mut ray| {
+            self.rays.extend(rays.into_iter().take(fit).map(|mut ray| {
                 ray.id += ray_base;
                 if ray.parent != NONE {
                     ray.parent += ray_base;
@@ -404,7 +439,7 @@ impl Merged {
                 ray.first_event += event_base;
                 ray
             }));
-            self.events.extend(r.events.into_iter().map(|mut e| {
+            self.events.extend(events.into_iter().take(n_events_kept).map(|mut e| {
                 e.ray += ray_base;
                 e
             }));
@@ -414,6 +449,7 @@ impl Merged {
 }
 
 /// Traces an already compiled scene (lets a caller reuse the BVH between traces).
+#[allow(clippy::too_many_lines)] // the batch loop, with its merge running beside the next batch
 pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, control: &Control) -> Trace {
     let mut warnings = compiled.warnings.clone();
     let launcher = launch::Launcher::new(scene, compiled, config);
@@ -439,23 +475,32 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
         events: Vec::new(),
         n_rays: 0,
         n_events: 0,
+        n_cut_branches: 0,
         truncated: false,
         cancelled: false,
         max_stored_events: config.max_stored_events,
+        held_peak: 0,
     };
-    let run_batch = |batch: &[(u64, u64)], store: bool| -> Vec<Option<engine::ChunkResult>> {
+    // Room for events not yet taken by any chunk: the events held by chunks (merged or not)
+    // never exceed the cap, so memory follows the cap however many events the rays make.
+    let allowance = AtomicUsize::new(config.max_stored_events);
+    let run_batch = |batch: &[(u64, u64)], store: bool| -> Vec<ChunkOutcome> {
         batch
             .par_iter()
             .map(|&(start, end)| {
                 if control.is_cancelled() {
-                    return None;
+                    return ((start, end), None);
                 }
                 let launches = launcher.range(start, end);
-                let r = tracer.trace_chunk(&launches, store);
+                let storage = if store { engine::Storage::Shared(&allowance) } else { engine::Storage::Off };
+                let r = tracer.trace_chunk(&launches, storage);
                 control.done.fetch_add(launches.len() as u64, Ordering::Relaxed);
-                Some(r)
+                ((start, end), Some(r))
             })
             .collect()
+    };
+    let retrace = |(start, end): (u64, u64), room: usize| {
+        tracer.trace_chunk(&launcher.range(start, end), engine::Storage::Room(room))
     };
     let pool = config.threads.and_then(|n| rayon::ThreadPoolBuilder::new().num_threads(n.max(1)).build().ok());
     // Merging one batch (serial: it appends to the single event list) runs beside the
@@ -465,7 +510,7 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
     // events stored just as the previous merge reaches the event cap; its events are then
     // skipped, as they would have been.
     let mut batches = chunks.chunks(BATCH);
-    let mut traced: Option<(Vec<Option<engine::ChunkResult>>, bool)> = None;
+    let mut traced: Option<(Vec<ChunkOutcome>, bool)> = None;
     loop {
         let go_on = !control.is_cancelled();
         let next = if go_on { batches.next() } else { None };
@@ -477,9 +522,19 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
         let store = !m.truncated;
         let prev = traced.take();
         let m_ref = &mut m;
+        let (allowance, retrace) = (&allowance, &retrace);
         let step = move || {
             rayon::join(
-                move || prev.is_none_or(|(results, store)| m_ref.add(results, store)),
+                move || {
+                    prev.is_none_or(|(results, store)| {
+                        let go_on = m_ref.add(results, store, retrace);
+                        if m_ref.truncated {
+                            // Nothing more will be kept: stop chunks under way from keeping events.
+                            allowance.store(0, Ordering::Relaxed);
+                        }
+                        go_on
+                    })
+                },
                 || next.map(|batch| (run_batch(batch, store), store)),
             )
         };
@@ -492,7 +547,7 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
             // Cancelled while merging: keep what the batch already under way produced (its
             // chunks stop early) and start nothing new.
             if let Some((results, store)) = traced.take() {
-                m.add(results, store);
+                m.add(results, store, &retrace);
             }
             break;
         }
@@ -500,11 +555,31 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
             m.cancelled = true;
         }
     }
-    let Merged { budget, detectors, rays, events, n_rays, n_events, truncated, cancelled, .. } = m;
+    let Merged {
+        budget,
+        detectors,
+        rays,
+        events,
+        n_rays,
+        n_events,
+        n_cut_branches,
+        truncated,
+        cancelled,
+        held_peak,
+        ..
+    } = m;
     if truncated {
         warnings.push(format!(
-            "only the first {} of {n_events} events were kept (the limit is settings.max_stored_events); the budget covers all rays",
-            events.len()
+            "only the first {} of {n_events} events were kept, as {} whole rays (the limit is settings.max_stored_events = {}); the budget covers all rays",
+            events.len(),
+            rays.len(),
+            config.max_stored_events
+        ));
+    }
+    if n_cut_branches > 0 {
+        warnings.push(format!(
+            "{n_cut_branches} reflected branches were not followed because a launched ray reached the limit of {} branches; their power is counted as below threshold",
+            config.max_branches_per_ray
         ));
     }
     if cancelled {
@@ -514,11 +589,8 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
     if err > 1e-9 {
         warnings.push(format!("the power budget closes only to {err:.2e} relative"));
     }
-    let objects = scene
-        .objects
-        .iter()
-        .map(|o| TracedObject { id: o.id, name: o.name.clone(), kind: o.kind.word() })
-        .collect();
+    let objects =
+        scene.objects.iter().map(|o| TracedObject { id: o.id, name: o.name.clone(), kind: o.kind.word() }).collect();
     let medium_objects = std::iter::once(None)
         .chain(compiled.solids.iter().map(|s| object_ids.get(s.object as usize).copied()))
         .collect();
@@ -536,6 +608,7 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
         n_rays,
         n_events,
         events_truncated: truncated,
+        events_held_peak: held_peak,
         cancelled,
         warnings,
     }
