@@ -170,10 +170,10 @@ fn trace(args: &TraceArgs) -> Result<ExitCode, Failure> {
     let scene = &loaded.scene;
     let mut config = TraceConfig::from_scene(scene);
     if let Some(m) = args.mode {
-        config.mode = m.into();
+        config.settings.mode = m.into();
     }
     if let Some(s) = args.seed {
-        config.seed = s;
+        config.settings.seed = s;
     }
     config.rays = args.rays;
     config.threads = args.threads;

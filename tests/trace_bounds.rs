@@ -21,9 +21,9 @@ fn a_tree_with_no_threshold_stops_at_the_branch_limit() {
     let s = two_plates();
     for threshold in [0.0, 1e-30] {
         let mut c = config(&s, TraceMode::Tree);
-        c.threshold = threshold;
+        c.settings.threshold = threshold;
         c.max_branches_per_ray = 500;
-        c.max_stored_events = 10_000;
+        c.settings.max_stored_events = 10_000;
         let t = run(&s, &c);
         assert!(t.n_rays <= 2 * (500 + 1), "{} rays for 2 launched", t.n_rays);
         assert!(t.budget.below_threshold > 0.0, "the cut branches are counted below the threshold");
@@ -45,7 +45,7 @@ fn trapped_in_a_ball(rays: u32, max_depth: u32) -> Scene {
 fn the_event_cap_bounds_the_events_held_in_memory() {
     let s = trapped_in_a_ball(64, 20_000);
     let mut c = config(&s, TraceMode::Principal);
-    c.max_stored_events = 1000;
+    c.settings.max_stored_events = 1000;
     let t = trace(&s, &c);
     assert!(t.n_events > 1_000_000, "{} events", t.n_events);
     assert!(t.budget.trapped > 0.99 * t.budget.launched);
@@ -61,7 +61,7 @@ fn the_event_cap_keeps_whole_rays_up_to_the_cap() {
         .expect("demo loads");
     let s = loaded.scene;
     let mut c = config(&s, TraceMode::Tree);
-    c.max_stored_events = 1000;
+    c.settings.max_stored_events = 1000;
     let t = trace(&s, &c);
     assert!(t.events_truncated);
     assert!(!t.events.is_empty() && t.events.len() <= 1000, "{} events kept", t.events.len());

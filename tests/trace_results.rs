@@ -60,3 +60,21 @@ fn ids_survive_deleting_an_earlier_object() {
     let after = check(&s);
     assert_eq!(before.budget.detected, after.budget.detected);
 }
+
+#[test]
+fn the_trace_takes_its_margin_from_the_config_not_the_scene() {
+    let mut s = scene();
+    common::solid(&mut s, "block", common::rect(0.0, 0.0, 10.0, 10.0), 1.5);
+    beam(&mut s, (-10.0, 0.0), 0.0, 0.0, 1, Polarization::Unpolarized);
+    s.settings.margin = 5.0;
+    let escape_x = |margin: f64| {
+        let mut c = config(&s, TraceMode::Principal);
+        c.settings.margin = margin;
+        let t = run(&s, &c);
+        let e = t.events.iter().find(|e| e.kind == raydraft::trace::EventKind::Escape).expect("an escape");
+        e.point.x
+    };
+    // The content spans x from −10 (the beam) to 5 (the block's right face).
+    assert!((escape_x(5.0) - 10.0).abs() < 1e-9);
+    assert!((escape_x(50.0) - 55.0).abs() < 1e-9);
+}

@@ -100,8 +100,10 @@ pub struct Compiled {
     pub wavelengths: Vec<f64>,
     /// `index[w][m]`: refractive index (relative to standard air) at wavelength `w` in medium `m`.
     pub index: Vec<Vec<f64>>,
-    /// Rays leaving this box escape.
+    /// Rays leaving this box escape: [`Compiled::content_bounds`] with the scene's margin.
     pub bounds: Aabb,
+    /// The box around every edge and source, before any margin.
+    pub content_bounds: Aabb,
     /// A length typical of the scene (bounding-box extent), for tolerances.
     pub scale: f64,
     pub warnings: Vec<String>,
@@ -205,8 +207,8 @@ impl Compiled {
             bounds = Aabb::from_points([Vec2::new(0.0, 0.0)]);
         }
         let scale = bounds.extent().max(1e-3);
-        let margin = if scene.settings.margin.is_finite() { scene.settings.margin.max(0.0) } else { 0.0 };
-        let bounds = bounds.expanded(margin.max(0.01 * scale));
+        let content_bounds = bounds;
+        let bounds = with_margin(content_bounds, scale, scene.settings.margin);
         let index: Vec<Vec<f64>> =
             wavelengths.iter().map(|&nm| media.iter().map(|m| m.index_rel_air(nm)).collect()).collect();
         for (w, row) in index.iter().enumerate() {
@@ -233,10 +235,16 @@ impl Compiled {
             wavelengths,
             index,
             bounds,
+            content_bounds,
             scale,
             warnings,
             excluded: bad,
         }
+    }
+
+    /// The escape box for a margin of `margin` mm (at least 1 % of the scene's size).
+    pub fn bounds_with_margin(&self, margin: f64) -> Aabb {
+        with_margin(self.content_bounds, self.scale, margin)
     }
 
     /// The medium at point `p`: the innermost solid containing it (as medium number), else 0.
@@ -380,6 +388,11 @@ pub fn file_edge_order(shape: &Shape, n: usize) -> impl Fn(usize) -> u32 + use<>
         _ => false,
     };
     move |k| if reversed && n > 0 { ((2 * n - k - 1) % n) as u32 } else { k as u32 }
+}
+
+fn with_margin(content: Aabb, scale: f64, margin: f64) -> Aabb {
+    let margin = if margin.is_finite() { margin.max(0.0) } else { 0.0 };
+    content.expanded(margin.max(0.01 * scale))
 }
 
 fn source_points(kind: &ObjectKind) -> Vec<(f64, f64)> {

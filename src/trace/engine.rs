@@ -6,7 +6,7 @@ use std::sync::atomic::{AtomicUsize, Ordering};
 use super::compile::{Compiled, Role};
 use super::launch::{Launch, Rng};
 use super::{Budget, DetectorHit, Event, EventKind, NONE, RayRecord, TraceConfig};
-use crate::geom::{BvhHit, Vec2, cross};
+use crate::geom::{Aabb, BvhHit, Vec2, cross};
 use crate::optics::{fresnel, reflect, refract};
 use crate::scene::TraceMode;
 
@@ -49,6 +49,8 @@ pub struct Tracer<'a> {
     max_depth: u32,
     /// Tree mode: most branches split off one launched ray.
     max_branches: u64,
+    /// Rays leaving this box escape (the scene's extent with the configured margin).
+    bounds: Aabb,
     /// Smallest distance a ray must travel before it can hit anything.
     t_min: f64,
     /// Hits closer together than this along a ray are one event (a vertex, touching faces).
@@ -366,10 +368,11 @@ impl<'a> Tracer<'a> {
         Self {
             c,
             object_ids,
-            mode: cfg.mode,
-            threshold: if cfg.threshold.is_finite() { cfg.threshold.max(0.0) } else { 0.0 },
-            max_depth: cfg.max_depth.max(1),
+            mode: cfg.settings.mode,
+            threshold: if cfg.settings.threshold.is_finite() { cfg.settings.threshold.max(0.0) } else { 0.0 },
+            max_depth: cfg.settings.max_depth.max(1),
             max_branches: u64::from(cfg.max_branches_per_ray),
+            bounds: c.bounds_with_margin(cfg.settings.margin),
             t_min: 1e-10 * c.scale,
             group_eps: 1e-9 * c.scale,
             probe: 1e-7 * c.scale,
@@ -450,7 +453,7 @@ impl<'a> Tracer<'a> {
             out.budget.trapped += w.total();
             return Next::Stop;
         }
-        let t_exit = self.c.bounds.exit_distance(w.origin, w.dir);
+        let t_exit = self.bounds.exit_distance(w.origin, w.dir);
         self.c.bvh.cast_group(w.origin, w.dir, self.t_min, t_exit, self.group_eps, w.on.as_slice(), group);
         self.absorb_along(w, group.first().map_or(t_exit, |h| h.t), out);
         let Some(&h0) = group.first() else {

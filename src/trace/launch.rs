@@ -106,8 +106,8 @@ impl<'a> Launcher<'a> {
             compiled,
             runs,
             total,
-            mc: config.mode == TraceMode::MonteCarlo,
-            seed: config.seed,
+            mc: config.settings.mode == TraceMode::MonteCarlo,
+            seed: config.settings.seed,
             delta: 1e-9 * compiled.scale,
         }
     }

@@ -22,7 +22,7 @@ pub use job::TraceJob;
 pub use launch::{Launch, Launcher};
 
 use crate::geom::Vec2;
-use crate::scene::{Scene, TraceMode};
+use crate::scene::{Scene, TraceMode, TraceSettings};
 
 /// Launched rays per chunk (the unit of parallel work).
 const CHUNK: usize = 8;
@@ -32,17 +32,14 @@ const BATCH: usize = 64;
 /// Default of [`TraceConfig::max_branches_per_ray`].
 pub const DEFAULT_MAX_BRANCHES_PER_RAY: u32 = 100_000;
 
-/// Settings for one trace; [`TraceConfig::from_scene`] takes them from the scene file.
+/// Everything one trace runs with: the scene's own settings (possibly changed, e.g. by the
+/// command line) plus what only a run decides. [`TraceConfig::from_scene`] starts from the
+/// scene file.
 #[derive(Clone, Debug, PartialEq)]
 pub struct TraceConfig {
-    pub mode: TraceMode,
-    /// Tree mode: branches below this fraction of their launch power are dropped.
-    pub threshold: f64,
-    /// Most interface events along one path.
-    pub max_depth: u32,
-    pub seed: u64,
-    /// Most events kept for drawing and export.
-    pub max_stored_events: usize,
+    /// Mode, threshold, depth limit, seed, event cap and margin. The trace reads them here,
+    /// never from the scene.
+    pub settings: TraceSettings,
     /// Tree mode: most branches split off one launched ray. Beyond it a ray keeps only its
     /// transmitted part and the reflected part counts as below threshold (with a warning),
     /// so a trace stays bounded whatever the threshold and depth.
@@ -55,13 +52,8 @@ pub struct TraceConfig {
 
 impl TraceConfig {
     pub fn from_scene(scene: &Scene) -> Self {
-        let s = &scene.settings;
         Self {
-            mode: s.mode,
-            threshold: s.threshold,
-            max_depth: s.max_depth,
-            seed: s.seed,
-            max_stored_events: s.max_stored_events,
+            settings: scene.settings.clone(),
             max_branches_per_ray: DEFAULT_MAX_BRANCHES_PER_RAY,
             rays: None,
             threads: None,
@@ -478,12 +470,12 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
         n_cut_branches: 0,
         truncated: false,
         cancelled: false,
-        max_stored_events: config.max_stored_events,
+        max_stored_events: config.settings.max_stored_events,
         held_peak: 0,
     };
     // Room for events not yet taken by any chunk: the events held by chunks (merged or not)
     // never exceed the cap, so memory follows the cap however many events the rays make.
-    let allowance = AtomicUsize::new(config.max_stored_events);
+    let allowance = AtomicUsize::new(config.settings.max_stored_events);
     let run_batch = |batch: &[(u64, u64)], store: bool| -> Vec<ChunkOutcome> {
         batch
             .par_iter()
@@ -573,7 +565,7 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
             "only the first {} of {n_events} events were kept, as {} whole rays (the limit is settings.max_stored_events = {}); the budget covers all rays",
             events.len(),
             rays.len(),
-            config.max_stored_events
+            config.settings.max_stored_events
         ));
     }
     if n_cut_branches > 0 {
@@ -595,7 +587,7 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
         .chain(compiled.solids.iter().map(|s| object_ids.get(s.object as usize).copied()))
         .collect();
     Trace {
-        mode: config.mode,
+        mode: config.settings.mode,
         revision: scene.revision,
         objects,
         rays,
