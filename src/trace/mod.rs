@@ -377,6 +377,31 @@ struct Merged {
 type ChunkOutcome = ((u64, u64), Option<engine::ChunkResult>);
 
 impl Merged {
+    fn new(compiled: &Compiled, object_ids: &[u64], max_stored_events: usize) -> Self {
+        Self {
+            budget: Budget::sized(compiled.alpha.len(), object_ids, compiled.detectors.len()),
+            detectors: compiled
+                .detectors
+                .iter()
+                .map(|d| DetectorResult {
+                    object: object_ids.get(d.object as usize).copied().unwrap_or_default(),
+                    name: d.name.clone(),
+                    length: d.length,
+                    hits: Vec::new(),
+                })
+                .collect(),
+            rays: Vec::new(),
+            events: Vec::new(),
+            n_rays: 0,
+            n_events: 0,
+            n_cut_branches: 0,
+            truncated: false,
+            cancelled: false,
+            max_stored_events,
+            held_peak: 0,
+        }
+    }
+
     /// Appends a batch of chunk results (`store`: whether their events may be kept), keeping
     /// complete rays in launch order while they fit under the cap. A chunk that stopped
     /// keeping events early (its share of the room ran out while other chunks ran) is traced
@@ -438,12 +463,76 @@ impl Merged {
         }
         !self.cancelled
     }
+
+    /// The finished trace, with warnings about what was cut or stopped.
+    fn into_trace(self, scene: &Scene, compiled: &Compiled, config: &TraceConfig) -> Trace {
+        let mut warnings = compiled.warnings.clone();
+        let object_ids: Vec<u64> = scene.objects.iter().map(|o| o.id).collect();
+        let Merged {
+            budget,
+            detectors,
+            rays,
+            events,
+            n_rays,
+            n_events,
+            n_cut_branches,
+            truncated,
+            cancelled,
+            held_peak,
+            ..
+        } = self;
+        if truncated {
+            warnings.push(format!(
+                "only the first {} of {n_events} events were kept, as {} whole rays (the limit is settings.max_stored_events = {}); the budget covers all rays",
+                events.len(),
+                rays.len(),
+                config.settings.max_stored_events
+            ));
+        }
+        if n_cut_branches > 0 {
+            warnings.push(format!(
+                "{n_cut_branches} reflected branches were not followed because a launched ray reached the limit of {} branches; their power is counted as below threshold",
+                config.max_branches_per_ray
+            ));
+        }
+        if cancelled {
+            warnings.push("the trace was stopped before all rays were traced".to_owned());
+        }
+        let err = budget.closure_error();
+        if err > 1e-9 {
+            warnings.push(format!("the power budget closes only to {err:.2e} relative"));
+        }
+        let objects = scene
+            .objects
+            .iter()
+            .map(|o| TracedObject { id: o.id, name: o.name.clone(), kind: o.kind.word() })
+            .collect();
+        let medium_objects = std::iter::once(None)
+            .chain(compiled.solids.iter().map(|s| object_ids.get(s.object as usize).copied()))
+            .collect();
+        Trace {
+            mode: config.settings.mode,
+            revision: scene.revision,
+            objects,
+            rays,
+            events,
+            budget,
+            detectors,
+            medium_names: compiled.medium_names.clone(),
+            medium_objects,
+            wavelengths: compiled.wavelengths.clone(),
+            n_rays,
+            n_events,
+            events_truncated: truncated,
+            events_held_peak: held_peak,
+            cancelled,
+            warnings,
+        }
+    }
 }
 
 /// Traces an already compiled scene (lets a caller reuse the BVH between traces).
-#[allow(clippy::too_many_lines)] // the batch loop, with its merge running beside the next batch
 pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, control: &Control) -> Trace {
-    let mut warnings = compiled.warnings.clone();
     let launcher = launch::Launcher::new(scene, compiled, config);
     control.total.store(launcher.len(), Ordering::Relaxed);
     control.done.store(0, Ordering::Relaxed);
@@ -451,30 +540,10 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
     let tracer = engine::Tracer::new(compiled, config, &object_ids);
     let n_chunks = launcher.len().div_ceil(CHUNK as u64);
     let chunks: Vec<(u64, u64)> = (0..n_chunks).map(|k| (k * CHUNK as u64, (k + 1) * CHUNK as u64)).collect();
-    let mut m = Merged {
-        budget: Budget::sized(compiled.alpha.len(), &object_ids, compiled.detectors.len()),
-        detectors: compiled
-            .detectors
-            .iter()
-            .map(|d| DetectorResult {
-                object: object_ids.get(d.object as usize).copied().unwrap_or_default(),
-                name: d.name.clone(),
-                length: d.length,
-                hits: Vec::new(),
-            })
-            .collect(),
-        rays: Vec::new(),
-        events: Vec::new(),
-        n_rays: 0,
-        n_events: 0,
-        n_cut_branches: 0,
-        truncated: false,
-        cancelled: false,
-        max_stored_events: config.settings.max_stored_events,
-        held_peak: 0,
-    };
-    // Room for events not yet taken by any chunk: the events held by chunks (merged or not)
-    // never exceed the cap, so memory follows the cap however many events the rays make.
+    let mut m = Merged::new(compiled, &object_ids, config.settings.max_stored_events);
+    // Room for events not yet taken by any chunk: what chunks take from it (merged or not)
+    // never exceeds the cap, and a chunk traced again at the merge takes at most the room
+    // left, so memory follows the cap however many events the rays make.
     let allowance = AtomicUsize::new(config.settings.max_stored_events);
     let run_batch = |batch: &[(u64, u64)], store: bool| -> Vec<ChunkOutcome> {
         batch
@@ -547,61 +616,5 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
             m.cancelled = true;
         }
     }
-    let Merged {
-        budget,
-        detectors,
-        rays,
-        events,
-        n_rays,
-        n_events,
-        n_cut_branches,
-        truncated,
-        cancelled,
-        held_peak,
-        ..
-    } = m;
-    if truncated {
-        warnings.push(format!(
-            "only the first {} of {n_events} events were kept, as {} whole rays (the limit is settings.max_stored_events = {}); the budget covers all rays",
-            events.len(),
-            rays.len(),
-            config.settings.max_stored_events
-        ));
-    }
-    if n_cut_branches > 0 {
-        warnings.push(format!(
-            "{n_cut_branches} reflected branches were not followed because a launched ray reached the limit of {} branches; their power is counted as below threshold",
-            config.max_branches_per_ray
-        ));
-    }
-    if cancelled {
-        warnings.push("the trace was stopped before all rays were traced".to_owned());
-    }
-    let err = budget.closure_error();
-    if err > 1e-9 {
-        warnings.push(format!("the power budget closes only to {err:.2e} relative"));
-    }
-    let objects =
-        scene.objects.iter().map(|o| TracedObject { id: o.id, name: o.name.clone(), kind: o.kind.word() }).collect();
-    let medium_objects = std::iter::once(None)
-        .chain(compiled.solids.iter().map(|s| object_ids.get(s.object as usize).copied()))
-        .collect();
-    Trace {
-        mode: config.settings.mode,
-        revision: scene.revision,
-        objects,
-        rays,
-        events,
-        budget,
-        detectors,
-        medium_names: compiled.medium_names.clone(),
-        medium_objects,
-        wavelengths: compiled.wavelengths.clone(),
-        n_rays,
-        n_events,
-        events_truncated: truncated,
-        events_held_peak: held_peak,
-        cancelled,
-        warnings,
-    }
+    m.into_trace(scene, compiled, config)
 }
