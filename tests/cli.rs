@@ -257,3 +257,16 @@ fn the_events_table_names_objects_by_id_and_edges_as_written() {
         assert_eq!((r[col("object_id")], r[col("object")], r[col("edge")]), ("7", "square", "1"));
     }
 }
+
+#[test]
+fn the_json_budget_lists_absorbers_and_detectors_by_id_and_name() {
+    let out = raydraft(&["trace", "scenes/light_guide.ron", "--json", "--rays", "20"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let json: serde_json::Value = serde_json::from_slice(&out.stdout).expect("json");
+    let absorbers = json["absorbers"].as_array().expect("absorbers");
+    let sheet = absorbers.iter().find(|a| a["id"] == 3).expect("the reflector sheet absorbs");
+    assert_eq!(sheet["name"], "reflector sheet");
+    assert!(sheet["power_w"].as_f64().expect("power") > 0.0);
+    let detectors = json["detectors"].as_array().expect("detectors");
+    assert_eq!((detectors[0]["id"].as_u64(), detectors[0]["name"].as_str()), (Some(4), Some("viewing plane")));
+}

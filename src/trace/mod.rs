@@ -123,8 +123,9 @@ pub struct Event {
     pub before_s: f32,
     pub before_p: f32,
     pub ray: u32,
-    /// The object's slot in [`Trace::objects`] ([`NONE`] for escape, limit, dropped); its id
-    /// is [`Trace::object_id_of`]. A slot, not an id, so that an event stays 64 bytes.
+    /// The object's slot in [`Trace::objects`] (the source at a launch; [`NONE`] where no
+    /// object is involved: escape, limit, a branch dropped between surfaces); its id is
+    /// [`Trace::object_id_of`]. A slot, not an id, so that an event stays 64 bytes.
     pub object_slot: u32,
     /// Edge number within the object, in the order the file gives the edges ([`NONE`] where
     /// no edge is involved).
