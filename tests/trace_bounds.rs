@@ -86,3 +86,26 @@ fn the_event_cap_keeps_whole_rays_up_to_the_cap() {
         assert_eq!(u.rays, t.rays);
     }
 }
+
+#[test]
+fn a_first_ray_longer_than_the_cap_is_kept_cut_short() {
+    // Every ray of the trapped ball has 2001 events: none fits whole under a cap of 500, so the
+    // first one is kept cut to the cap (rather than showing nothing), the same for any threads.
+    let s = trapped_in_a_ball(40, 2000);
+    let mut c = config(&s, TraceMode::Principal);
+    c.settings.max_stored_events = 500;
+    let t = trace(&s, &c);
+    assert_eq!(t.rays.len(), 1);
+    assert_eq!(t.events.len(), 500);
+    assert_eq!(t.rays[0].n_events, 500);
+    assert!(t.events.iter().all(|e| e.ray == 0));
+    assert!(t.warnings.iter().any(|w| w.contains("first ray alone")), "{:?}", t.warnings);
+    for threads in [1, 2] {
+        let mut c1 = c.clone();
+        c1.threads = Some(threads);
+        assert_eq!(trace(&s, &c1).events, t.events);
+    }
+    c.settings.max_stored_events = 0;
+    let t = trace(&s, &c);
+    assert!(t.rays.is_empty() && t.events.is_empty());
+}

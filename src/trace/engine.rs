@@ -18,8 +18,9 @@ pub enum Storage<'s> {
     /// Take room from an allowance shared with the chunks running beside this one, a block
     /// at a time; stop keeping events when it runs out.
     Shared(&'s AtomicUsize),
-    /// Keep at most this many.
-    Room(usize),
+    /// Keep at most `room`; if `cut_first_ray`, a first ray longer than that keeps its
+    /// first `room` events rather than none.
+    Room { room: usize, cut_first_ray: bool },
 }
 
 /// Events a chunk takes from a shared allowance at a time.
@@ -36,6 +37,8 @@ pub struct ChunkResult {
     pub n_events: u64,
     /// Whether every ray of the chunk was kept (false if storage was off or ran out).
     pub all_stored: bool,
+    /// Whether the first ray was kept cut short (see [`Storage::Room`]).
+    pub first_ray_cut: bool,
     /// Tree branches not followed because a launched ray reached its branch limit.
     pub n_cut_branches: u64,
 }
@@ -167,6 +170,7 @@ impl Current<'_> {
 }
 
 /// What a chunk collects while it runs.
+#[allow(clippy::struct_excessive_bools)] // independent flags of event storage, each set at its own point
 struct Out<'s> {
     budget: Budget,
     hits: Vec<Vec<DetectorHit>>,
@@ -182,6 +186,9 @@ struct Out<'s> {
     /// Whether an event of the current ray found no room.
     overflow: bool,
     all_stored: bool,
+    /// Whether a first ray that does not fit keeps what fits.
+    cut_first_ray: bool,
+    first_ray_cut: bool,
     /// Branches the current launched ray may still split off (tree mode).
     branches_left: u64,
     n_cut_branches: u64,
@@ -189,10 +196,10 @@ struct Out<'s> {
 
 impl<'s> Out<'s> {
     fn new(budget: Budget, n_detectors: usize, storage: Storage<'s>) -> Self {
-        let (store, limit, allowance) = match storage {
-            Storage::Off => (false, 0, None),
-            Storage::Shared(a) => (true, 0, Some(a)),
-            Storage::Room(n) => (true, n, None),
+        let (store, limit, allowance, cut_first_ray) = match storage {
+            Storage::Off => (false, 0, None, false),
+            Storage::Shared(a) => (true, 0, Some(a), false),
+            Storage::Room { room, cut_first_ray } => (true, room, None, cut_first_ray),
         };
         Self {
             budget,
@@ -206,6 +213,8 @@ impl<'s> Out<'s> {
             allowance,
             overflow: false,
             all_stored: store,
+            cut_first_ray,
+            first_ray_cut: false,
             branches_left: 0,
             n_cut_branches: 0,
         }
@@ -251,9 +260,15 @@ impl<'s> Out<'s> {
     /// and come first).
     fn end_ray(&mut self, record: RayRecord) {
         if self.overflow {
-            self.events.truncate(record.first_event);
             self.overflow = false;
             self.all_stored = false;
+            if self.cut_first_ray && record.first_event == 0 && !self.events.is_empty() {
+                // Nothing fits whole: show the start of the first ray rather than nothing.
+                self.first_ray_cut = true;
+                self.rays.push(RayRecord { n_events: self.events.len() as u32, ..record });
+            } else {
+                self.events.truncate(record.first_event);
+            }
         } else if self.store {
             self.rays.push(record);
         }
@@ -301,6 +316,7 @@ impl<'s> Out<'s> {
             n_rays: self.n_rays,
             n_events: self.n_events,
             all_stored: self.all_stored,
+            first_ray_cut: self.first_ray_cut,
             n_cut_branches: self.n_cut_branches,
         }
     }

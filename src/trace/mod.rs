@@ -366,6 +366,8 @@ struct Merged {
     n_events: u64,
     n_cut_branches: u64,
     truncated: bool,
+    /// Whether the first ray alone was longer than the cap and was kept cut short.
+    first_ray_cut: bool,
     cancelled: bool,
     max_stored_events: usize,
     /// Most events held at once by the unmerged results of one batch (re-traced chunks
@@ -397,6 +399,7 @@ impl Merged {
             n_events: 0,
             n_cut_branches: 0,
             truncated: false,
+            first_ray_cut: false,
             cancelled: false,
             max_stored_events,
             held_peak: 0,
@@ -440,6 +443,7 @@ impl Merged {
                 drop(r.events);
                 let again = retrace(range, room);
                 self.held_peak = self.held_peak.max(held + again.events.len());
+                self.first_ray_cut |= again.first_ray_cut;
                 (again.rays, again.events, again.all_stored)
             };
             // The rays whose events all fit.
@@ -478,16 +482,22 @@ impl Merged {
             n_events,
             n_cut_branches,
             truncated,
+            first_ray_cut,
             cancelled,
             held_peak,
             ..
         } = self;
-        if truncated {
+        let cap = config.settings.max_stored_events;
+        if first_ray_cut {
             warnings.push(format!(
-                "only the first {} of {n_events} events were kept, as {} whole rays (the limit is settings.max_stored_events = {}); the budget covers all rays",
+                "the first ray alone has more events than settings.max_stored_events = {cap}: only its first {} of {n_events} events were kept; the budget covers all rays",
+                events.len()
+            ));
+        } else if truncated {
+            warnings.push(format!(
+                "only the first {} of {n_events} events were kept, as {} whole rays (the limit is settings.max_stored_events = {cap}); the budget covers all rays",
                 events.len(),
-                rays.len(),
-                config.settings.max_stored_events
+                rays.len()
             ));
         }
         if n_cut_branches > 0 {
@@ -545,7 +555,8 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
     // Room for events not yet taken by any chunk: what chunks take from it (merged or not)
     // never exceeds the cap, and a chunk traced again at the merge takes at most the room
     // left, so memory follows the cap however many events the rays make.
-    let allowance = AtomicUsize::new(config.settings.max_stored_events);
+    let cap = config.settings.max_stored_events;
+    let allowance = AtomicUsize::new(cap);
     let run_batch = |batch: &[(u64, u64)], store: bool| -> Vec<ChunkOutcome> {
         batch
             .par_iter()
@@ -562,7 +573,8 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
             .collect()
     };
     let retrace = |(start, end): (u64, u64), room: usize| {
-        tracer.trace_chunk(&launcher.range(start, end), engine::Storage::Room(room))
+        // Only when nothing is kept yet (the very first ray) may a ray be kept cut short.
+        tracer.trace_chunk(&launcher.range(start, end), engine::Storage::Room { room, cut_first_ray: room == cap })
     };
     let pool = config.threads.and_then(|n| rayon::ThreadPoolBuilder::new().num_threads(n.max(1)).build().ok());
     // Merging one batch (serial: it appends to the single event list) runs beside the
