@@ -192,10 +192,10 @@ fn trace(args: &TraceArgs) -> Result<ExitCode, Failure> {
     let scene = &loaded.scene;
     let mut config = TraceConfig::from_scene(scene);
     if let Some(m) = args.mode {
-        config.mode = m.into();
+        config.settings.mode = m.into();
     }
     if let Some(s) = args.seed {
-        config.seed = s;
+        config.settings.seed = s;
     }
     config.rays = args.rays;
     config.threads = args.threads;
@@ -213,9 +213,9 @@ fn trace(args: &TraceArgs) -> Result<ExitCode, Failure> {
     });
     let result = trace_in_background(scene, &compiled, &config, &control, std::io::stderr().is_terminal());
     let elapsed = started.elapsed();
-    let report = budget_report(scene, &compiled, &result);
+    let report = budget_report(&result);
     let sinks = [report.launched_w, report.escaped_w, report.absorbed_w, report.trapped_w, report.below_threshold_w];
-    if !sinks.iter().chain(report.detected.iter().map(|(_, w)| w)).all(|w| w.is_finite())
+    if !sinks.iter().chain(report.detected.iter().map(|d| &d.power_w)).all(|w| w.is_finite())
         || !report.closure_error.is_finite()
     {
         return Err(other(anyhow!(
@@ -232,7 +232,7 @@ fn trace(args: &TraceArgs) -> Result<ExitCode, Failure> {
         write_output(path, &export::csv::detectors(scene, &result), "detector table")?;
     }
     if let Some(path) = &args.events {
-        write_output(path, &export::csv::events(scene, &result), "event table")?;
+        write_output(path, &export::csv::events(&result), "event table")?;
     }
     if args.json {
         let mut value = export::json::budget(&report, &result);
@@ -370,13 +370,13 @@ pub fn budget_text(scene: &Scene, path: &Path, trace: &Trace, report: &BudgetRep
     };
     let _ = writeln!(out, "power budget:");
     row(&mut out, 0, "launched", launched);
-    for (name, w) in &report.detected {
-        row(&mut out, 0, &format!("detected by \"{name}\""), *w);
+    for d in &report.detected {
+        row(&mut out, 0, &format!("detected by \"{}\"", d.name), d.power_w);
     }
     row(&mut out, 0, "escaped", report.escaped_w);
     row(&mut out, 0, "absorbed", report.absorbed_w);
-    for (name, w) in &report.absorbed_by {
-        row(&mut out, 2, name, *w);
+    for a in &report.absorbed_by {
+        row(&mut out, 2, &a.label, a.power_w);
     }
     row(&mut out, 0, "trapped (still guided at the event limit)", report.trapped_w);
     row(&mut out, 0, "below threshold", report.below_threshold_w);
@@ -517,11 +517,11 @@ mod tests {
         control.cancel();
         let t = trace_in_background(&scene, &compiled, &TraceConfig::from_scene(&scene), &control, false);
         assert!(t.cancelled);
-        let report = budget_report(&scene, &compiled, &t);
+        let report = budget_report(&t);
         let text = budget_text(&scene, Path::new("beam.ron"), &t, &report, 0.0);
         assert!(text.contains("PARTIAL: the trace was stopped"), "{text}");
         let whole = trace_in_background(&scene, &compiled, &TraceConfig::from_scene(&scene), &Control::new(), false);
-        let report = budget_report(&scene, &compiled, &whole);
+        let report = budget_report(&whole);
         assert!(!budget_text(&scene, Path::new("beam.ron"), &whole, &report, 0.0).contains("PARTIAL"));
     }
 }

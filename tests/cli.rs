@@ -93,13 +93,17 @@ fn the_events_table_has_one_row_per_event() {
     assert_eq!(
         lines.next(),
         Some(
-            "ray,parent,x_mm,y_mm,direction_deg,wavelength_nm,power_s_w,power_p_w,kind,object,edge,n1,n2,incidence_deg"
+            "ray,parent,x_mm,y_mm,direction_deg,wavelength_nm,power_s_w,power_p_w,kind,object_id,object,edge,n1,n2,incidence_deg"
         )
     );
     let rows: Vec<&str> = lines.collect();
     assert_eq!(rows.len() as u64, json["n_events"].as_u64().expect("n_events"));
-    assert!(rows.iter().all(|r| r.split(',').count() == 14));
-    assert!(rows.iter().any(|r| r.contains(",tir,lower prism,")));
+    assert!(rows.iter().all(|r| r.split(',').count() == 15));
+    assert!(rows.iter().any(|r| r.contains(",tir,1,lower prism,")));
+    // Detectors in the JSON carry their id and name.
+    let detectors = json["detectors"].as_array().expect("detectors");
+    assert_eq!(detectors.len(), 1);
+    assert_eq!((detectors[0]["id"].as_u64(), detectors[0]["name"].as_str()), (Some(4), Some("eyepiece plane")));
     // A launched ray of the beam travels along +x.
     let first: Vec<&str> = rows[0].split(',').collect();
     assert_eq!(first[8], "launch");
@@ -397,4 +401,54 @@ fn ctrl_c_stops_a_trace_with_a_partial_budget() {
     assert_eq!(json["partial"], true);
     assert!(json["closure_error"].as_f64().expect("closure") < 1e-9);
     assert!(text(&out.stderr).contains("the budget above is partial"), "{}", text(&out.stderr));
+}
+
+#[test]
+fn the_events_table_names_objects_by_id_and_edges_as_written() {
+    // A square written clockwise: edge 0 left, 1 top, 2 right, 3 bottom. Ids are not
+    // positions: the square is the second object and has id 7.
+    let scene = r#"(
+        version: 1,
+        settings: (mode: Principal),
+        objects: [
+            (id: 3, name: "lamp", kind: BeamSource((center: (5.0, 20.0), width: 2.0, direction_deg: -90.0,
+                emission: (rays: 3, power_w: 1.0, spectrum: [(nm: 550.0, weight: 1.0)])))),
+            (id: 7, name: "square", kind: Solid((
+                shape: Outline(points: [(0.0, 0.0), (0.0, 10.0), (10.0, 10.0), (10.0, 0.0)]),
+                material: "pmma"))),
+        ],
+    )"#;
+    let dir = tempfile::tempdir().expect("temp dir");
+    let file = dir.path().join("square.ron");
+    std::fs::write(&file, scene).expect("scene written");
+    let events = dir.path().join("events.csv");
+    let out = raydraft(&["trace", file.to_str().expect("path"), "--events", events.to_str().expect("path")]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let table = std::fs::read_to_string(&events).expect("events written");
+    let mut lines = table.lines();
+    let header: Vec<&str> = lines.next().expect("header").split(',').collect();
+    let col = |name: &str| header.iter().position(|h| *h == name).expect("column");
+    let rows: Vec<Vec<&str>> = lines.map(|l| l.split(',').collect()).collect();
+    let launch = rows.iter().find(|r| r[col("kind")] == "launch").expect("a launch");
+    assert_eq!((launch[col("object_id")], launch[col("object")]), ("3", "lamp"));
+    // Each ray's first hit is the top face, y = 10.
+    let top: Vec<&Vec<&str>> =
+        rows.iter().filter(|r| r[col("kind")] == "refract" && r[col("y_mm")].parse::<f64>() == Ok(10.0)).collect();
+    assert_eq!(top.len(), 3, "{table}");
+    for r in top {
+        assert_eq!((r[col("object_id")], r[col("object")], r[col("edge")]), ("7", "square", "1"));
+    }
+}
+
+#[test]
+fn the_json_budget_lists_absorbers_and_detectors_by_id_and_name() {
+    let out = raydraft(&["trace", "scenes/light_guide.ron", "--json", "--rays", "20"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let json: serde_json::Value = serde_json::from_slice(&out.stdout).expect("json");
+    let absorbers = json["absorbers"].as_array().expect("absorbers");
+    let sheet = absorbers.iter().find(|a| a["id"] == 3).expect("the reflector sheet absorbs");
+    assert_eq!(sheet["name"], "reflector sheet");
+    assert!(sheet["power_w"].as_f64().expect("power") > 0.0);
+    let detectors = json["detectors"].as_array().expect("detectors");
+    assert_eq!((detectors[0]["id"].as_u64(), detectors[0]["name"].as_str()), (Some(4), Some("viewing plane")));
 }

@@ -214,8 +214,8 @@ fn random_scenes_keep_every_invariant() {
         let edges: Vec<Edge> = compiled.edges.iter().map(|e| e.edge).collect();
         let mode = [TraceMode::Principal, TraceMode::Tree, TraceMode::MonteCarlo][scenes % 3];
         let mut c = TraceConfig::from_scene(&s);
-        c.mode = mode;
-        c.threshold = 1e-3;
+        c.settings.mode = mode;
+        c.settings.threshold = 1e-3;
         let t = trace(&s, &c);
         let err = t.budget.closure_error();
         assert!(err <= 1e-9, "scene {scenes} ({mode:?}): budget closes to {err:e}\n{s:?}");

@@ -2,7 +2,7 @@
 //! its owner and role, the nesting of solids, and an index table per wavelength and medium.
 
 use crate::geom::{Aabb, Bvh, BvhHit, Edge, Outline, Vec2};
-use crate::scene::{ObjectKind, Scene, validate};
+use crate::scene::{ObjectKind, Scene, Shape, validate};
 
 /// What an edge does to light.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -33,7 +33,8 @@ pub struct EdgeInfo {
     pub edge: Edge,
     /// Index of the owning object in `scene.objects`.
     pub object: u32,
-    /// Index of the edge within its object.
+    /// Index of the edge within its object, in the order the file gives the edges (a free
+    /// outline written clockwise is run the other way internally; see [`file_edge_order`]).
     pub index: u32,
     pub role: Role,
 }
@@ -99,8 +100,10 @@ pub struct Compiled {
     pub wavelengths: Vec<f64>,
     /// `index[w][m]`: refractive index (relative to standard air) at wavelength `w` in medium `m`.
     pub index: Vec<Vec<f64>>,
-    /// Rays leaving this box escape.
+    /// Rays leaving this box escape: [`Compiled::content_bounds`] with the scene's margin.
     pub bounds: Aabb,
+    /// The box around every edge and source, before any margin.
+    pub content_bounds: Aabb,
     /// A length typical of the scene (bounding-box extent), for tolerances.
     pub scale: f64,
     pub warnings: Vec<String>,
@@ -151,8 +154,10 @@ impl Compiled {
                         continue;
                     };
                     let k = solids.len() as u32;
+                    let file_edge = file_edge_order(&s.shape, outline.len());
                     for (i, e) in outline.edges().enumerate() {
-                        edges.push(EdgeInfo { edge: e, object: oi32, index: i as u32, role: Role::Solid { solid: k } });
+                        let index = file_edge(i);
+                        edges.push(EdgeInfo { edge: e, object: oi32, index, role: Role::Solid { solid: k } });
                     }
                     let area = outline.signed_area();
                     solids.push(SolidInfo {
@@ -202,8 +207,8 @@ impl Compiled {
             bounds = Aabb::from_points([Vec2::new(0.0, 0.0)]);
         }
         let scale = bounds.extent().max(1e-3);
-        let margin = if scene.settings.margin.is_finite() { scene.settings.margin.max(0.0) } else { 0.0 };
-        let bounds = bounds.expanded(margin.max(0.01 * scale));
+        let content_bounds = bounds;
+        let bounds = with_margin(content_bounds, scale, scene.settings.margin);
         let index: Vec<Vec<f64>> =
             wavelengths.iter().map(|&nm| media.iter().map(|m| m.index_rel_air(nm)).collect()).collect();
         for (w, row) in index.iter().enumerate() {
@@ -230,10 +235,16 @@ impl Compiled {
             wavelengths,
             index,
             bounds,
+            content_bounds,
             scale,
             warnings,
             excluded: bad,
         }
+    }
+
+    /// The escape box for a margin of `margin` mm (at least 1 % of the scene's size).
+    pub fn bounds_with_margin(&self, margin: f64) -> Aabb {
+        with_margin(self.content_bounds, self.scale, margin)
     }
 
     /// The medium at point `p`: the innermost solid containing it (as medium number), else 0.
@@ -362,6 +373,26 @@ impl Compiled {
         }
         false
     }
+}
+
+/// Maps the position of an edge in a solid's counter-clockwise outline (as
+/// [`Shape::outline`] gives it) to its number in the file: a free outline written clockwise
+/// is reversed, new edge k being old edge (n − k − 1) mod n. Primitives are generated
+/// counter-clockwise and keep their numbers.
+pub fn file_edge_order(shape: &Shape, n: usize) -> impl Fn(usize) -> u32 + use<> {
+    let reversed = match shape {
+        Shape::Outline { points, bulges } => {
+            let bulges = if bulges.len() == points.len() { bulges.clone() } else { vec![0.0; points.len()] };
+            Outline { vertices: points.iter().map(|&p| crate::scene::to_vec(p)).collect(), bulges }.signed_area() < 0.0
+        }
+        _ => false,
+    };
+    move |k| if reversed && n > 0 { ((2 * n - k - 1) % n) as u32 } else { k as u32 }
+}
+
+fn with_margin(content: Aabb, scale: f64, margin: f64) -> Aabb {
+    let margin = if margin.is_finite() { margin.max(0.0) } else { 0.0 };
+    content.expanded(margin.max(0.01 * scale))
 }
 
 fn source_points(kind: &ObjectKind) -> Vec<(f64, f64)> {
