@@ -251,7 +251,7 @@ mod tests {
         let right = Edge::segment(v(4.0, 0.0), v(4.0, 3.0));
         let (o, d) = (v(-1.0, 0.0), v(1.0, 0.0));
         assert_eq!(bottom.cast(o, d, 0.0, f64::INFINITY), None);
-        let hit = right.cast(o, d, 0.0, f64::INFINITY).unwrap();
+        let hit = right.cast(o, d, 0.0, f64::INFINITY).expect("a hit");
         assert_eq!(hit.t, 5.0);
         assert_eq!(hit.normal, v(1.0, 0.0));
     }
@@ -276,10 +276,10 @@ mod tests {
     fn ray_tangent_to_arc_touches_once_and_just_outside_misses() {
         // The upper half of the unit circle, counter-clockwise from (1, 0): bulge 1.
         let e = arc_on_circle(v(0.0, 0.0), 1.0, 0.0, PI);
-        let touch = e.cast(v(-5.0, 1.0), v(1.0, 0.0), 0.0, f64::INFINITY).unwrap();
+        let touch = e.cast(v(-5.0, 1.0), v(1.0, 0.0), 0.0, f64::INFINITY).expect("a hit");
         assert!((touch.t - 5.0).abs() < 1e-12 && (touch.normal - v(0.0, 1.0)).norm() < 1e-12);
         assert_eq!(e.cast(v(-5.0, 1.0 + 1e-9), v(1.0, 0.0), 0.0, f64::INFINITY), None);
-        let inside = e.cast(v(-5.0, 1.0 - 1e-9), v(1.0, 0.0), 0.0, f64::INFINITY).unwrap();
+        let inside = e.cast(v(-5.0, 1.0 - 1e-9), v(1.0, 0.0), 0.0, f64::INFINITY).expect("a hit");
         assert!((inside.t - 5.0).abs() < 1e-4);
     }
 
@@ -300,7 +300,7 @@ mod tests {
         let o = unit(0.7);
         // Through the centre: the far point, at angle 0.7 + π, is on the arc, 2 mm away.
         for hit in [e.cast_from_self(o, -o, 1e-9, f64::INFINITY), e.cast(o, -o, 1e-9, f64::INFINITY)] {
-            let hit = hit.unwrap();
+            let hit = hit.expect("a hit");
             assert!((hit.t - 2.0).abs() < 1e-12);
             // The arc runs counter-clockwise, so its right normal is outward: along −o there.
             assert!((hit.normal + o).norm() < 1e-12);
@@ -349,9 +349,9 @@ mod tests {
             assert!((arc.normal_at(u) - v(0.0, -1.0)).norm() < 1e-8);
         }
         // A ray straight down at x = 5 meets the arc at the sagitta, the segment at the chord.
-        let hit = arc.cast(v(5.0, 1.0), v(0.0, -1.0), 0.0, f64::INFINITY).unwrap();
+        let hit = arc.cast(v(5.0, 1.0), v(0.0, -1.0), 0.0, f64::INFINITY).expect("a hit");
         assert!((hit.t - (1.0 + 1e-8)).abs() < 1e-15, "{}", hit.t);
-        let hit = straight.cast(v(5.0, 1.0), v(0.0, -1.0), 0.0, f64::INFINITY).unwrap();
+        let hit = straight.cast(v(5.0, 1.0), v(0.0, -1.0), 0.0, f64::INFINITY).expect("a hit");
         assert_eq!(hit.t, 1.0);
         // The box of the arc reaches its lowest point.
         assert!((arc.aabb().min.y + 1e-8).abs() < 1e-15);
@@ -360,7 +360,7 @@ mod tests {
     #[test]
     fn nearly_full_arc_with_bulge_1e3() {
         let e = Edge { a: v(0.0, -0.001), b: v(0.0, 0.001), bulge: 1e3 };
-        let g = e.arc().unwrap();
+        let g = e.arc().expect("an arc");
         let theta = 4.0 * 1e3f64.atan();
         assert!(theta > TAU - 0.005);
         // R = c / (2 sin(θ/2)).
@@ -372,10 +372,10 @@ mod tests {
         assert!((g.center - v(cx, 0.0)).norm() < 1e-9, "{g:?} r {r}");
         // A ray along the axis from far left enters the near side at x = 0 only through the gap
         // (between y = ±0.001), so at y = 0 it first meets the far side at x = cx + R.
-        let hit = e.cast(v(-10.0, 0.0), v(1.0, 0.0), 0.0, f64::INFINITY).unwrap();
+        let hit = e.cast(v(-10.0, 0.0), v(1.0, 0.0), 0.0, f64::INFINITY).expect("a hit");
         assert!((hit.t - (10.0 + cx + r)).abs() < 1e-9, "{}", hit.t);
         // At y = 0.5 R it meets the arc twice; the nearer is on the left half.
-        let hit = e.cast(v(-10.0, 0.5 * r), v(1.0, 0.0), 0.0, f64::INFINITY).unwrap();
+        let hit = e.cast(v(-10.0, 0.5 * r), v(1.0, 0.0), 0.0, f64::INFINITY).expect("a hit");
         assert!((hit.point.x - (cx - r * 0.75f64.sqrt())).abs() < 1e-9);
         for k in 0..=50 {
             let u = f64::from(k) / 50.0;
@@ -400,7 +400,7 @@ mod tests {
             };
             let sweep = if rng.uniform() < 0.5 { mag } else { -mag };
             let e = arc_on_circle(center, radius, from, sweep);
-            let g = e.arc().unwrap();
+            let g = e.arc().expect("an arc");
             let scale = radius + center.norm();
             assert!((g.radius - radius).abs() < 1e-9 * scale, "case {case}");
             assert!((e.length() - radius * sweep.abs()).abs() < 1e-9 * scale, "case {case}");

@@ -116,8 +116,8 @@ mod tests {
         // A ray along y = 0.5 meets the upper half circle twice.
         let hits = ray_arc(v(-5.0, 0.5), v(1.0, 0.0), &upper_half(), 0.0, f64::INFINITY, false);
         let x = 0.75f64.sqrt();
-        assert!((hits[0].unwrap() - (5.0 - x)).abs() < 1e-15);
-        assert!((hits[1].unwrap() - (5.0 + x)).abs() < 1e-15);
+        assert!((hits[0].expect("a crossing") - (5.0 - x)).abs() < 1e-15);
+        assert!((hits[1].expect("a crossing") - (5.0 + x)).abs() < 1e-15);
     }
 
     #[test]
@@ -141,7 +141,7 @@ mod tests {
         // on the arc either; towards (−0.6, 0.8) it meets the arc again 1.2 mm away.
         assert_eq!(ray_arc(o, -o, &arc, 1e-9, f64::INFINITY, true), [None, None]);
         assert_eq!(ray_arc(o, v(0.0, -1.0), &arc, 1e-9, f64::INFINITY, true), [None, None]);
-        let t = ray_arc(o, v(-1.0, 0.0), &arc, 1e-9, f64::INFINITY, true)[0].unwrap();
+        let t = ray_arc(o, v(-1.0, 0.0), &arc, 1e-9, f64::INFINITY, true)[0].expect("a crossing");
         assert!((t - 1.2).abs() < 1e-15);
         // Outward it never meets its own arc.
         assert_eq!(ray_arc(o, o, &arc, 1e-9, f64::INFINITY, true), [None, None]);

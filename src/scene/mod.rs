@@ -5,6 +5,7 @@
 //! Every object has a stable numeric `id` (never reused within a scene) and a name.
 
 pub mod file;
+pub mod pick;
 pub mod shapes;
 pub mod validate;
 
