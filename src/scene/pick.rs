@@ -14,8 +14,11 @@
 //!   skipped; a free outline is picked from its points even when it fails validation, so the
 //!   user can reach it to mend it.
 //!
-//! Every query is one linear pass over the scene's edges: a few tens of nanoseconds per
-//! edge, well under a millisecond for a plate with 30 000 edges.
+//! Every query is one linear pass over the edges of the objects whose bounding box lies
+//! within the tolerance of the point. Generating the outlines of primitives costs more
+//! than the pass, so an editor asking many questions of one scene revision builds a
+//! [`PickGeometry`] once and asks it; the free functions build one per call.
+//! `benches/pick.rs` measures both.
 
 use crate::geom::{Aabb, Edge, Outline, Vec2, perp, unit};
 
@@ -146,37 +149,201 @@ pub fn source_handles(object: &Object, handle_length_mm: f64) -> Vec<(SourceHand
     }
 }
 
-/// What an object is made of, for picking.
-struct Geometry {
-    /// Vertices in file order (see the module conventions).
-    vertices: Vec<Vec2>,
-    /// Edges in file order.
-    edges: Vec<Edge>,
-    index_space: IndexSpace,
-    /// For a solid, the closed outline (in file order) to test containment against.
-    solid: Option<Outline>,
+/// The pickable geometry of a scene: every object's vertices and edges in file order, a
+/// solid's outline and area, and each object's bounding box. Building it generates the
+/// outlines of the primitives (the costly part for a plate with thousands of notches);
+/// the editor builds it once per scene revision and asks it many questions. The free
+/// functions of this module build one for a single question.
+#[derive(Clone, Debug, Default)]
+pub struct PickGeometry {
+    objects: Vec<ObjectGeometry>,
 }
 
-/// The editable geometry of a solid or thin element; `None` for sources and for primitives
-/// whose outline cannot be built.
-fn geometry(object: &Object) -> Option<Geometry> {
+/// What one object is made of, for picking.
+#[derive(Clone, Debug)]
+struct ObjectGeometry {
+    object_id: u64,
+    /// Vertices in file order (empty for a source).
+    vertices: Vec<Vec2>,
+    /// Edges in file order; for a source, the segments that stand for it.
+    edges: Vec<Edge>,
+    /// Whether vertices and edges can be edited (not a source).
+    editable: bool,
+    index_space: IndexSpace,
+    /// For a solid, the closed outline in file order, and its area.
+    solid: Option<(Outline, f64)>,
+    /// Box around all edges.
+    bounds: Aabb,
+}
+
+impl PickGeometry {
+    /// Collects the geometry of every object of `scene`. Primitives whose outline cannot be
+    /// built are left out; a free outline is kept even when it fails validation.
+    pub fn new(scene: &Scene) -> Self {
+        Self { objects: scene.objects.iter().filter_map(object_geometry).collect() }
+    }
+
+    /// Objects whose box, grown by `r`, holds `p`.
+    fn near(&self, p: Vec2, r: f64) -> impl Iterator<Item = &ObjectGeometry> {
+        self.objects.iter().filter(move |g| g.bounds.expanded(r).contains(p))
+    }
+
+    /// The vertex of a solid or thin element nearest `p`, within `tolerance_mm`.
+    pub fn nearest_vertex(&self, p: Vec2, tolerance_mm: f64) -> Option<VertexPick> {
+        let mut best = None;
+        for g in self.near(p, tolerance_mm).filter(|g| g.editable) {
+            for (vertex_idx, &v) in g.vertices.iter().enumerate() {
+                keep_nearer(&mut best, (v - p).norm(), tolerance_mm, || VertexPick {
+                    object_id: g.object_id,
+                    vertex_idx,
+                    index_space: g.index_space,
+                    point: v,
+                    distance_mm: 0.0,
+                });
+            }
+        }
+        best.map(|(d, pick)| VertexPick { distance_mm: d, ..pick })
+    }
+
+    /// The edge of a solid or thin element nearest `p`, within `tolerance_mm`, with the
+    /// nearest point on it.
+    pub fn nearest_edge(&self, p: Vec2, tolerance_mm: f64) -> Option<EdgePick> {
+        let mut best = None;
+        for g in self.near(p, tolerance_mm).filter(|g| g.editable) {
+            for (edge_idx, e) in g.edges.iter().enumerate() {
+                if !could_be_within(e, p, tolerance_mm) {
+                    continue;
+                }
+                let proj = e.project(p);
+                keep_nearer(&mut best, proj.distance_mm, tolerance_mm, || EdgePick {
+                    object_id: g.object_id,
+                    edge_idx,
+                    index_space: g.index_space,
+                    point: proj.point,
+                    param: proj.param,
+                    distance_mm: proj.distance_mm,
+                });
+            }
+        }
+        best.map(|(_, pick)| pick)
+    }
+
+    /// The bend handle (edge midpoint) of a solid or thin element nearest `p`, within
+    /// `tolerance_mm`.
+    pub fn nearest_bend_handle(&self, p: Vec2, tolerance_mm: f64) -> Option<BendHandlePick> {
+        let mut best = None;
+        for g in self.near(p, tolerance_mm).filter(|g| g.editable) {
+            for (edge_idx, e) in g.edges.iter().enumerate() {
+                let mid = e.point_at(0.5);
+                keep_nearer(&mut best, (mid - p).norm(), tolerance_mm, || BendHandlePick {
+                    object_id: g.object_id,
+                    edge_idx,
+                    index_space: g.index_space,
+                    point: mid,
+                    distance_mm: 0.0,
+                });
+            }
+        }
+        best.map(|(d, pick)| BendHandlePick { distance_mm: d, ..pick })
+    }
+
+    /// The object nearest `p`, within `tolerance_mm`; see [`nearest_object`].
+    pub fn nearest_object(&self, p: Vec2, tolerance_mm: f64) -> Option<ObjectPick> {
+        // Ranked by (distance, area); thin elements and sources have area 0.
+        let mut best: Option<((f64, f64), ObjectPick)> = None;
+        let better = |key: (f64, f64), best: &Option<((f64, f64), ObjectPick)>| {
+            best.as_ref().is_none_or(|(k, _)| key.0 < k.0 || (key.0 == k.0 && key.1 < k.1))
+        };
+        for g in self.near(p, tolerance_mm) {
+            let area = g.solid.as_ref().map_or(0.0, |(_, area)| *area);
+            if let Some((outline, _)) = &g.solid
+                && outline.contains(p)
+            {
+                if better((0.0, area), &best) {
+                    let pick = ObjectPick { object_id: g.object_id, point: p, distance_mm: 0.0, inside: true };
+                    best = Some(((0.0, area), pick));
+                }
+                continue;
+            }
+            let mut nearest: Option<(f64, Vec2)> = None;
+            for e in &g.edges {
+                let radius = nearest.map_or(tolerance_mm, |(d, _)| d.min(tolerance_mm));
+                if !could_be_within(e, p, radius) {
+                    continue;
+                }
+                let proj = e.project(p);
+                if proj.distance_mm <= tolerance_mm && nearest.is_none_or(|(d, _)| proj.distance_mm < d) {
+                    nearest = Some((proj.distance_mm, proj.point));
+                }
+            }
+            let Some((d, point)) = nearest else { continue };
+            if better((d, area), &best) {
+                best = Some(((d, area), ObjectPick { object_id: g.object_id, point, distance_mm: d, inside: false }));
+            }
+        }
+        best.map(|(_, pick)| pick)
+    }
+
+    /// Ids of the objects lying wholly inside `bb`; see [`objects_in_box`].
+    pub fn objects_in_box(&self, bb: &Aabb) -> Vec<u64> {
+        self.objects
+            .iter()
+            .filter(|g| !g.edges.is_empty() && bb.contains(g.bounds.min) && bb.contains(g.bounds.max))
+            .map(|g| g.object_id)
+            .collect()
+    }
+
+    /// Ids of the objects that `bb` touches; see [`objects_touching_box`].
+    pub fn objects_touching_box(&self, bb: &Aabb) -> Vec<u64> {
+        if bb.is_empty() {
+            return Vec::new();
+        }
+        self.objects
+            .iter()
+            .filter(|g| {
+                g.bounds.overlaps(bb)
+                    && (g.edges.iter().any(|e| edge_touches_box(e, bb))
+                        || g.solid.as_ref().is_some_and(|(o, _)| o.contains(bb.center())))
+            })
+            .map(|g| g.object_id)
+            .collect()
+    }
+}
+
+/// The geometry of one object; `None` for a primitive whose outline cannot be built.
+fn object_geometry(object: &Object) -> Option<ObjectGeometry> {
     let path = match &object.kind {
-        ObjectKind::Solid(s) => return solid_geometry(&s.shape),
+        ObjectKind::Solid(s) => return solid_geometry(object.id, &s.shape),
         ObjectKind::Mirror(m) => &m.path,
         ObjectKind::Absorber(a) => &a.path,
         ObjectKind::Splitter(s) => &s.path,
         ObjectKind::Detector(d) => &d.path,
-        ObjectKind::PointSource(_) | ObjectKind::BeamSource(_) | ObjectKind::LambertianSource(_) => return None,
+        ObjectKind::PointSource(_) | ObjectKind::BeamSource(_) | ObjectKind::LambertianSource(_) => {
+            let edges = source_edges(object);
+            return Some(ObjectGeometry {
+                object_id: object.id,
+                vertices: Vec::new(),
+                bounds: bounds(&edges),
+                edges,
+                editable: false,
+                index_space: IndexSpace::FilePoints,
+                solid: None,
+            });
+        }
     };
-    Some(Geometry {
+    let edges = path.edges();
+    Some(ObjectGeometry {
+        object_id: object.id,
         vertices: path.points.iter().map(|&p| to_vec(p)).collect(),
-        edges: path.edges(),
+        bounds: bounds(&edges),
+        edges,
+        editable: true,
         index_space: IndexSpace::FilePoints,
         solid: None,
     })
 }
 
-fn solid_geometry(shape: &Shape) -> Option<Geometry> {
+fn solid_geometry(object_id: u64, shape: &Shape) -> Option<ObjectGeometry> {
     let (outline, index_space) = match shape {
         // The file's own order: `Shape::outline` would turn a clockwise outline round.
         Shape::Outline { points, bulges } => {
@@ -186,12 +353,21 @@ fn solid_geometry(shape: &Shape) -> Option<Geometry> {
         }
         _ => (shape.outline().ok()?, IndexSpace::PrimitiveOutline),
     };
-    Some(Geometry {
+    let edges: Vec<Edge> = outline.edges().collect();
+    let area = outline.signed_area().abs();
+    Some(ObjectGeometry {
+        object_id,
         vertices: outline.vertices.clone(),
-        edges: outline.edges().collect(),
+        bounds: bounds(&edges),
+        edges,
+        editable: true,
         index_space,
-        solid: Some(outline),
+        solid: Some((outline, area)),
     })
+}
+
+fn bounds(edges: &[Edge]) -> Aabb {
+    edges.iter().fold(Aabb::EMPTY, |bb, e| bb.union(&e.aabb()))
 }
 
 /// The segments (possibly of zero length) that stand for a source when measuring distance
@@ -217,48 +393,6 @@ fn keep_nearer<T>(best: &mut Option<(f64, T)>, distance_mm: f64, tolerance_mm: f
     }
 }
 
-/// The vertex of a solid or thin element nearest `p`, within `tolerance_mm`.
-pub fn nearest_vertex(scene: &Scene, p: Vec2, tolerance_mm: f64) -> Option<VertexPick> {
-    let mut best = None;
-    for object in &scene.objects {
-        let Some(g) = geometry(object) else { continue };
-        for (vertex_idx, &v) in g.vertices.iter().enumerate() {
-            keep_nearer(&mut best, (v - p).norm(), tolerance_mm, || VertexPick {
-                object_id: object.id,
-                vertex_idx,
-                index_space: g.index_space,
-                point: v,
-                distance_mm: 0.0,
-            });
-        }
-    }
-    best.map(|(d, pick)| VertexPick { distance_mm: d, ..pick })
-}
-
-/// The edge of a solid or thin element nearest `p`, within `tolerance_mm`, with the nearest
-/// point on it.
-pub fn nearest_edge(scene: &Scene, p: Vec2, tolerance_mm: f64) -> Option<EdgePick> {
-    let mut best = None;
-    for object in &scene.objects {
-        let Some(g) = geometry(object) else { continue };
-        for (edge_idx, e) in g.edges.iter().enumerate() {
-            if !could_be_within(e, p, tolerance_mm) {
-                continue;
-            }
-            let proj = e.project(p);
-            keep_nearer(&mut best, proj.distance_mm, tolerance_mm, || EdgePick {
-                object_id: object.id,
-                edge_idx,
-                index_space: g.index_space,
-                point: proj.point,
-                param: proj.param,
-                distance_mm: proj.distance_mm,
-            });
-        }
-    }
-    best.map(|(_, pick)| pick)
-}
-
 /// A cheap reject: a straight edge whose end points' box, grown by `r`, misses `p` is farther
 /// than `r`. Arcs always go on to the exact test.
 #[inline]
@@ -266,24 +400,21 @@ fn could_be_within(e: &Edge, p: Vec2, r: f64) -> bool {
     e.is_arc() || Aabb::from_points([e.a, e.b]).expanded(r).contains(p) || !r.is_finite()
 }
 
+/// The vertex of a solid or thin element nearest `p`, within `tolerance_mm`.
+pub fn nearest_vertex(scene: &Scene, p: Vec2, tolerance_mm: f64) -> Option<VertexPick> {
+    PickGeometry::new(scene).nearest_vertex(p, tolerance_mm)
+}
+
+/// The edge of a solid or thin element nearest `p`, within `tolerance_mm`, with the nearest
+/// point on it.
+pub fn nearest_edge(scene: &Scene, p: Vec2, tolerance_mm: f64) -> Option<EdgePick> {
+    PickGeometry::new(scene).nearest_edge(p, tolerance_mm)
+}
+
 /// The bend handle (edge midpoint) of a solid or thin element nearest `p`, within
 /// `tolerance_mm`.
 pub fn nearest_bend_handle(scene: &Scene, p: Vec2, tolerance_mm: f64) -> Option<BendHandlePick> {
-    let mut best = None;
-    for object in &scene.objects {
-        let Some(g) = geometry(object) else { continue };
-        for (edge_idx, e) in g.edges.iter().enumerate() {
-            let mid = e.point_at(0.5);
-            keep_nearer(&mut best, (mid - p).norm(), tolerance_mm, || BendHandlePick {
-                object_id: object.id,
-                edge_idx,
-                index_space: g.index_space,
-                point: mid,
-                distance_mm: 0.0,
-            });
-        }
-    }
-    best.map(|(d, pick)| BendHandlePick { distance_mm: d, ..pick })
+    PickGeometry::new(scene).nearest_bend_handle(p, tolerance_mm)
 }
 
 /// The object nearest `p`, within `tolerance_mm`. A point inside a solid is at distance 0
@@ -293,45 +424,11 @@ pub fn nearest_bend_handle(scene: &Scene, p: Vec2, tolerance_mm: f64) -> Option<
 /// (a point source is its position, a beam the segment across its width, a Lambertian
 /// emitter its face).
 pub fn nearest_object(scene: &Scene, p: Vec2, tolerance_mm: f64) -> Option<ObjectPick> {
-    // (distance, area) compared in that order; thin things have area 0.
-    let mut best: Option<((f64, f64), ObjectPick)> = None;
-    for object in &scene.objects {
-        let (edges, solid) = match geometry(object) {
-            Some(g) => (g.edges, g.solid),
-            None => (source_edges(object), None),
-        };
-        if let Some(outline) = &solid
-            && outline.contains(p)
-        {
-            let key = (0.0, outline.signed_area().abs());
-            if best.as_ref().is_none_or(|(k, _)| key.0 < k.0 || (key.0 == k.0 && key.1 < k.1)) {
-                best = Some((key, ObjectPick { object_id: object.id, point: p, distance_mm: 0.0, inside: true }));
-            }
-            continue;
-        }
-        let area = solid.as_ref().map_or(0.0, |o| o.signed_area().abs());
-        let mut nearest: Option<(f64, Vec2)> = None;
-        for e in &edges {
-            let radius = nearest.map_or(tolerance_mm, |(d, _)| d.min(tolerance_mm));
-            if !could_be_within(e, p, radius) {
-                continue;
-            }
-            let proj = e.project(p);
-            if proj.distance_mm <= tolerance_mm && nearest.is_none_or(|(d, _)| proj.distance_mm < d) {
-                nearest = Some((proj.distance_mm, proj.point));
-            }
-        }
-        let Some((d, point)) = nearest else { continue };
-        let key = (d, area);
-        if best.as_ref().is_none_or(|(k, _)| key.0 < k.0 || (key.0 == k.0 && key.1 < k.1)) {
-            best = Some((key, ObjectPick { object_id: object.id, point, distance_mm: d, inside: false }));
-        }
-    }
-    best.map(|(_, pick)| pick)
+    PickGeometry::new(scene).nearest_object(p, tolerance_mm)
 }
 
 /// The source handle nearest `p`, within `tolerance_mm`; see [`source_handles`] for where
-/// the handles are.
+/// the handles are. (Cheap: it needs no outlines, so there is no [`PickGeometry`] form.)
 pub fn nearest_source_handle(
     scene: &Scene,
     p: Vec2,
@@ -352,50 +449,16 @@ pub fn nearest_source_handle(
     best.map(|(d, pick)| SourceHandlePick { distance_mm: d, ..pick })
 }
 
-/// The edges that stand for an object in box queries: its outline or path, or its source
-/// geometry; `None` for a primitive that cannot be built.
-fn box_geometry(object: &Object) -> Option<(Vec<Edge>, Option<Outline>)> {
-    if object.kind.is_source() {
-        return Some((source_edges(object), None));
-    }
-    geometry(object).map(|g| (g.edges, g.solid))
-}
-
 /// Ids of the objects lying wholly inside `bb` (outline, path or source geometry; a
 /// source's direction handles do not count), in scene order.
 pub fn objects_in_box(scene: &Scene, bb: &Aabb) -> Vec<u64> {
-    scene
-        .objects
-        .iter()
-        .filter(|object| {
-            box_geometry(object).is_some_and(|(edges, _)| {
-                !edges.is_empty()
-                    && edges.iter().all(|e| {
-                        let eb = e.aabb();
-                        bb.contains(eb.min) && bb.contains(eb.max)
-                    })
-            })
-        })
-        .map(|o| o.id)
-        .collect()
+    PickGeometry::new(scene).objects_in_box(bb)
 }
 
 /// Ids of the objects that `bb` touches: an edge, path or source geometry meets the box, or
 /// the box lies inside a solid. In scene order.
 pub fn objects_touching_box(scene: &Scene, bb: &Aabb) -> Vec<u64> {
-    if bb.is_empty() {
-        return Vec::new();
-    }
-    scene
-        .objects
-        .iter()
-        .filter(|object| {
-            box_geometry(object).is_some_and(|(edges, solid)| {
-                edges.iter().any(|e| edge_touches_box(e, bb)) || solid.is_some_and(|o| o.contains(bb.center()))
-            })
-        })
-        .map(|o| o.id)
-        .collect()
+    PickGeometry::new(scene).objects_touching_box(bb)
 }
 
 /// Whether an edge meets a (non-empty) box: an end inside it, or a crossing of one of its
