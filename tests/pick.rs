@@ -8,8 +8,8 @@ use raydraft::geom::{Aabb, Edge, Outline, Vec2, perp, unit};
 use raydraft::optics::Material;
 use raydraft::rng::Rng;
 use raydraft::scene::pick::{
-    IndexSpace, SourceHandle, nearest_bend_handle, nearest_edge, nearest_object, nearest_source_handle, nearest_vertex,
-    objects_in_box, objects_touching_box, source_handles,
+    IndexSpace, PickGeometry, SourceHandle, nearest_bend_handle, nearest_edge, nearest_object, nearest_source_handle,
+    nearest_vertex, objects_in_box, objects_touching_box, source_handles,
 };
 use raydraft::scene::{
     Absorber, BeamSource, Detector, Emission, LambertianSource, Mirror, Object, ObjectKind, Path, PointSource, Scene,
@@ -86,6 +86,23 @@ fn free_outline_with_wrong_bulge_count_can_still_be_picked() {
     let mut s = Scene::new("t");
     let id = solid(&mut s, Shape::Outline { points: vec![(0.0, 0.0), (1.0, 0.0), (0.0, 1.0)], bulges: vec![0.1] });
     assert_eq!(nearest_vertex(&s, v(1.0, 0.1), 0.5).expect("a pick within tolerance").object_id, id);
+}
+
+#[test]
+fn prebuilt_geometry_answers_like_the_free_functions_and_skips_broken_primitives() {
+    let mut s = Scene::new("t");
+    solid(&mut s, Shape::Ball { position: (0.0, 0.0), radius: -1.0 });
+    let id = solid(&mut s, rect(0.0, 0.0, 4.0, 2.0));
+    let g = PickGeometry::new(&s);
+    for p in [v(2.1, 1.1), v(0.0, 0.0), v(0.0, -1.3), v(9.0, 9.0)] {
+        assert_eq!(g.nearest_vertex(p, 0.5), nearest_vertex(&s, p, 0.5));
+        assert_eq!(g.nearest_edge(p, 0.5), nearest_edge(&s, p, 0.5));
+        assert_eq!(g.nearest_bend_handle(p, 0.5), nearest_bend_handle(&s, p, 0.5));
+        assert_eq!(g.nearest_object(p, 0.5), nearest_object(&s, p, 0.5));
+    }
+    assert_eq!(g.nearest_object(v(0.0, 0.0), 0.5).expect("inside the rectangle").object_id, id);
+    let everything = Aabb { min: v(-100.0, -100.0), max: v(100.0, 100.0) };
+    assert_eq!(g.objects_in_box(&everything), vec![id]);
 }
 
 #[test]

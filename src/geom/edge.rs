@@ -422,6 +422,27 @@ mod tests {
         }
     }
 
+    /// The box of an edge holds every point of it and touches it on all four sides, for
+    /// shallow, half, nearly full and nearly straight arcs.
+    #[test]
+    fn aabb_is_the_tight_box_of_the_edge() {
+        let mut rng = Rng::new(5);
+        for case in 0..500 {
+            let e = random_edge(&mut rng);
+            let bb = e.aabb();
+            let n = 4000;
+            let pts: Vec<Vec2> = (0..=n).map(|k| e.point_at(f64::from(k) / f64::from(n))).collect();
+            let slack = 1e-9 * (1.0 + e.a.norm());
+            assert!(pts.iter().all(|p| bb.expanded(slack).contains(*p)), "case {case}: {e:?}");
+            // The sampled extremes are within the sagitta of one step of the box.
+            let step = e.length() / f64::from(n);
+            let reach = step * step / e.arc().map_or(f64::INFINITY, |g| g.radius) + slack;
+            let lo = pts.iter().fold(v(f64::INFINITY, f64::INFINITY), |m, p| m.inf(p));
+            let hi = pts.iter().fold(v(f64::NEG_INFINITY, f64::NEG_INFINITY), |m, p| m.sup(p));
+            assert!((lo - bb.min).norm() <= 2.0 * reach && (hi - bb.max).norm() <= 2.0 * reach, "case {case}: {e:?}");
+        }
+    }
+
     /// The polyline of an arc is as long as the arc, to the chord error of its steps.
     #[test]
     fn polyline_length_approaches_arc_length() {
