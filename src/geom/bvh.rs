@@ -5,7 +5,7 @@
 //! ray test needs precomputed (direction and unit normal of a segment; centre and radius of
 //! an arc), which is most of the speed over testing raw [`Edge`]s.
 
-use super::{Aabb, Edge, Vec2, cross};
+use super::{Aabb, ArcRay, Edge, Vec2, ray_arc, ray_segment, right_normal};
 
 /// Leaves hold at most this many primitives.
 const LEAF_SIZE: usize = 4;
@@ -59,22 +59,9 @@ impl Prim {
         Self { a: e.a, d: e.b - e.a, id, arc }
     }
 
-    /// Unit right normal of a segment (zero for a zero-length one, which is never hit).
-    #[inline]
-    fn segment_normal(&self) -> Vec2 {
-        let len = self.d.norm();
-        if len > 0.0 { Vec2::new(self.d.y, -self.d.x) / len } else { Vec2::zeros() }
-    }
-
-    #[inline]
-    fn arc_contains(&self, side: f64, p: Vec2) -> bool {
-        let s = cross(self.d, p - self.a);
-        // Tolerance: 10⁻¹² of the chord in distance from the chord line (see `Edge`).
-        s * side <= 1e-12 * self.d.norm_squared()
-    }
-
     /// Calls `f` with every crossing in `(t_min, t_max)`. `from_self`: the ray starts on this
-    /// edge, so only a second crossing of an arc can count.
+    /// edge, so only a second crossing of an arc can count. The intersection code is
+    /// [`ray_segment`] and [`ray_arc`], shared with [`Edge::cast`].
     #[inline]
     #[allow(clippy::too_many_arguments)] // the ray, its range and the arc table; all needed
     fn cast(
@@ -88,46 +75,15 @@ impl Prim {
         mut f: impl FnMut(f64, Vec2),
     ) {
         if self.arc == STRAIGHT {
-            if from_self {
-                return;
-            }
-            let denom = cross(dir, self.d);
-            if denom == 0.0 {
-                return;
-            }
-            let ao = self.a - o;
-            let t = cross(ao, self.d) / denom;
-            if !(t > t_min && t < t_max) {
-                return;
-            }
-            let s = cross(ao, dir) / denom;
-            if (-1e-12..=1.0 + 1e-12).contains(&s) {
-                f(t, self.segment_normal());
+            if !from_self && let Some(t) = ray_segment(o, dir, self.a, self.d, t_min, t_max) {
+                f(t, right_normal(self.d));
             }
             return;
         }
         let ArcPrim { center, radius, side } = arcs[self.arc as usize];
-        let oc = o - center;
-        let b = dir.dot(&oc);
-        let roots = if from_self {
-            [-2.0 * b, f64::NAN]
-        } else {
-            let c = oc.norm_squared() - radius * radius;
-            let disc = b * b - c;
-            if disc < 0.0 {
-                return;
-            }
-            let sq = disc.sqrt();
-            let q = if b > 0.0 { -b - sq } else { -b + sq };
-            if q == 0.0 { [0.0, 0.0] } else { [q, c / q] }
-        };
-        for t in roots {
-            if t > t_min && t < t_max {
-                let p = o + dir * t;
-                if self.arc_contains(side, p) {
-                    f(t, (p - center) / radius * side);
-                }
-            }
+        let arc = ArcRay::new(self.a, self.d, center, radius, side);
+        for t in ray_arc(o, dir, &arc, t_min, t_max, from_self).into_iter().flatten() {
+            f(t, arc.normal_at(o + dir * t));
         }
     }
 }

@@ -7,6 +7,7 @@
 pub mod edit;
 pub mod file;
 pub mod history;
+pub mod pick;
 pub mod shapes;
 pub mod validate;
 

@@ -12,6 +12,7 @@ mod compile;
 mod engine;
 mod job;
 mod launch;
+pub mod pick;
 
 use std::sync::atomic::{AtomicBool, AtomicU64, AtomicUsize, Ordering};
 
