@@ -441,3 +441,34 @@ fn a_cancelled_sweep_returns_what_it_finished() {
     assert!(sweep(&s, &p, 1.0, 2.0, 5, &m, &control).expect("runs").is_empty());
     assert!(sweep(&s, &p, 1.0, 2.0, 0, &m, &Control::new()).is_err());
 }
+
+#[test]
+fn svg_annotations_show_the_angles_and_the_critical_angle() {
+    let mut s = scene();
+    solid(&mut s, "block", rect(0.0, -10.0, 100.0, 20.0), 1.5);
+    beam(&mut s, (-5.0, -5.0), 0.0, 45.0, 1, Polarization::Unpolarized);
+    let t = run(&s, &config(&s, TraceMode::Tree));
+    let options = raydraft::export::svg::SvgOptions { annotate_ray: Some(0), ..Default::default() };
+    let svg = raydraft::export::svg::render(&s, &t, &options);
+    let doc = roxmltree::Document::parse(&svg).expect("well-formed SVG");
+    let group = doc.descendants().find(|n| n.attribute("id") == Some("annotations")).expect("an annotation group");
+    let texts: Vec<&str> = group.descendants().filter(|n| n.has_tag_name("text")).filter_map(|n| n.text()).collect();
+    assert!(texts.iter().any(|t| t.contains("45.0°")), "{texts:?}");
+    assert!(texts.iter().any(|t| t.contains("TIR: θc = 41.8°")), "{texts:?}");
+    assert!(group.descendants().any(|n| n.has_tag_name("line")), "a normal is drawn");
+    // Without the option nothing is added.
+    let plain = raydraft::export::svg::render(&s, &t, &raydraft::export::svg::SvgOptions::default());
+    assert!(!plain.contains("annotations"));
+}
+
+#[test]
+fn json_analysis_lists_escaped_power_and_uniformity() {
+    let mut s = glass_block_with_ray(1.5, 30.0);
+    detector(&mut s, "floor", (-50.0, -30.0), (50.0, -30.0));
+    let t = run(&s, &config(&s, TraceMode::Tree));
+    let v = raydraft::export::json::analysis(&s, &t);
+    let shares = v["escaped_by_edge"]["shares"].as_array().expect("a list");
+    assert!(!shares.is_empty());
+    assert_eq!(v["escaped_by_edge"]["truncated"], false);
+    assert!(v["uniformity"]["floor"]["cv"].as_f64().is_some_and(|cv| cv > 0.0));
+}

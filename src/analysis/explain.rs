@@ -46,13 +46,10 @@ pub(crate) fn event_surface(scene: &Scene, e: &Event) -> Option<Surface> {
     Some(Surface { object_id: o.id, object: o.name.clone(), edge: e.edge })
 }
 
-/// The geometry of the edge an event happened on, if it still exists in `scene`.
-pub(crate) fn event_edge(scene: &Scene, e: &Event) -> Option<Edge> {
-    if e.edge == NONE {
-        return None;
-    }
-    let (_, o) = event_object(scene, e)?;
-    let k = e.edge as usize;
+/// The geometry of a surface, if it still exists in `scene` (for drawing normals).
+pub fn surface_edge(scene: &Scene, surface: &Surface) -> Option<Edge> {
+    let o = scene.object(surface.object_id)?;
+    let k = surface.edge as usize;
     match &o.kind {
         ObjectKind::Solid(s) => {
             let outline = s.shape.outline().ok()?;
