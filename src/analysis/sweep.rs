@@ -471,6 +471,21 @@ pub fn sweep_with(
     let values = sweep_values(from, to, steps);
     // Every value must make a scene before any time goes into tracing.
     let scenes = values.iter().map(|&v| param.set(scene, v)).collect::<Result<Vec<_>, _>>()?;
+    // A value that makes the scene invalid (a negative width, say) would silently leave the
+    // object out of the trace; say so instead.
+    let errors = |s: &Scene| -> Vec<String> {
+        crate::scene::validate(s)
+            .into_iter()
+            .filter(|p| p.severity == crate::scene::validate::Severity::Error)
+            .map(|p| p.to_string())
+            .collect()
+    };
+    let before = errors(scene);
+    for (v, s) in values.iter().zip(&scenes) {
+        if let Some(problem) = errors(s).into_iter().find(|e| !before.contains(e)) {
+            return Err(SweepError::Param(format!("{param} = {v} makes the scene invalid: {problem}")));
+        }
+    }
     let mut out = Vec::with_capacity(steps);
     for (k, (v, s)) in values.iter().zip(&scenes).enumerate() {
         if control.is_cancelled() {
