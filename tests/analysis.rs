@@ -472,3 +472,84 @@ fn json_analysis_lists_escaped_power_and_uniformity() {
     assert_eq!(v["escaped_by_edge"]["truncated"], false);
     assert!(v["uniformity"]["floor"]["cv"].as_f64().is_some_and(|cv| cv > 0.0));
 }
+
+#[test]
+fn a_value_that_breaks_the_scene_is_refused() {
+    let s = rich_scene();
+    let p = ParamPath::parse(&s, "beam.width").expect("a parameter");
+    let m = Metric::parse(&s, "escaped").expect("a metric");
+    let e = sweep(&s, &p, 1.0, -1.0, 3, &m, &Control::new()).expect_err("refused").to_string();
+    assert!(e.contains("beam.width = -1 makes the scene invalid"), "{e}");
+}
+
+fn raydraft(args: &[&str]) -> std::process::Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_raydraft"))
+        .args(args)
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .expect("run raydraft")
+}
+
+#[test]
+fn command_line_sweep_prints_csv_and_refuses_unknown_names() {
+    let out = raydraft(&[
+        "sweep",
+        "scenes/prism_fold.ron",
+        "--param",
+        "beam.direction_deg",
+        "--from",
+        "-6",
+        "--to",
+        "6",
+        "--steps",
+        "4",
+        "--metric",
+        "escaped",
+    ]);
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let csv = String::from_utf8_lossy(&out.stdout);
+    let lines: Vec<&str> = csv.lines().collect();
+    assert_eq!(lines[0], "value,metric");
+    assert_eq!(lines.len(), 5);
+    assert!(lines[1].starts_with("-6,"));
+    assert!(out.stderr.is_empty(), "no progress line when stderr is not a terminal");
+
+    let out = raydraft(&[
+        "sweep",
+        "scenes/prism_fold.ron",
+        "--param",
+        "beam.angle",
+        "--from",
+        "0",
+        "--to",
+        "1",
+        "--steps",
+        "2",
+        "--metric",
+        "escaped",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("direction_deg"));
+}
+
+#[test]
+fn command_line_explains_and_annotates_a_ray() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let svg = dir.path().join("ray.svg");
+    let out = raydraft(&[
+        "trace",
+        "scenes/prism_fold.ron",
+        "--ray",
+        "0",
+        "--svg",
+        svg.to_str().expect("path"),
+        "--annotate-ray",
+        "0",
+    ]);
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("total internal reflection"), "{text}");
+    assert!(std::fs::read_to_string(&svg).expect("svg").contains(r#"id="annotations""#));
+    let out = raydraft(&["trace", "scenes/prism_fold.ron", "--ray", "100000"]);
+    assert_eq!(out.status.code(), Some(2));
+}
