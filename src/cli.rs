@@ -90,7 +90,7 @@ pub struct SweepArgs {
     /// The scene file (.ron).
     pub file: PathBuf,
     /// The number to change, as OBJECT.FIELD (OBJECT a name or id, or `settings`, or
-    /// `materials[NAME]`), e.g. beam.direction_deg or guide.shape.notch_depth.
+    /// `materials[NAME]`), e.g. `beam.direction_deg` or `guide.shape.notch_depth`.
     #[arg(long, value_name = "OBJECT.FIELD")]
     pub param: String,
     #[arg(long, value_name = "A", allow_negative_numbers = true)]
@@ -253,8 +253,8 @@ fn explain(scene: &Scene, trace: &Trace, k: usize) -> Result<raydraft::analysis:
 /// Runs a parameter sweep and prints `value,metric` CSV; a progress line goes to stderr when
 /// it is a terminal.
 fn sweep(args: &SweepArgs) -> Result<ExitCode, Failure> {
-    use std::io::IsTerminal as _;
     use raydraft::analysis::{Metric, ParamPath, sweep_with};
+    use std::io::IsTerminal as _;
     let loaded = load(&args.file)?;
     print_load_warnings(&loaded);
     let scene = &loaded.scene;

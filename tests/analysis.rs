@@ -118,10 +118,8 @@ fn explanation_of_a_total_internal_reflection() {
 #[test]
 fn escape_cone_of_water_and_glass() {
     let mut s = scene();
-    let water = s.add(
-        "water",
-        ObjectKind::Solid(Solid { shape: rect(0.0, -10.0, 40.0, 20.0), material: "water".to_owned() }),
-    );
+    let water =
+        s.add("water", ObjectKind::Solid(Solid { shape: rect(0.0, -10.0, 40.0, 20.0), material: "water".to_owned() }));
     let glass = solid(&mut s, "glass", rect(100.0, -10.0, 40.0, 20.0), 1.5);
     let top = edge_on(&s, water, 0.0);
     let c = escape_cone(&s, water, top, Vec2::new(3.0, 0.0), 587.5618).expect("a cone");

@@ -38,8 +38,8 @@ pub struct EscapeCone {
     /// What is on the other side: a material name.
     pub outside: String,
     /// Half-angle of the cone about the normal (measured inside, from the inward normal
-    /// line), degrees: the critical angle asin(n_outside/n_inside). `None` when
-    /// n_inside ≤ n_outside: then every direction reaching the surface leaves.
+    /// line), degrees: the critical angle asin(n outside / n inside). `None` when
+    /// n inside ≤ n outside: then every direction reaching the surface leaves.
     pub half_angle_deg: Option<f64>,
 }
 
@@ -180,5 +180,10 @@ pub fn escaped_by_edge(scene: &Scene, trace: &Trace) -> EscapedByEdge {
     }
     let mut shares: Vec<EdgeShare> = by.into_iter().map(|(surface, w)| EdgeShare { surface, w }).collect();
     shares.sort_by(|a, b| b.w.total_cmp(&a.w).then_with(|| a.label().cmp(&b.label())));
-    EscapedByEdge { shares, stored_w, budget_w: trace.budget.escaped, truncated: trace.events_truncated || trace.cancelled }
+    EscapedByEdge {
+        shares,
+        stored_w,
+        budget_w: trace.budget.escaped,
+        truncated: trace.events_truncated || trace.cancelled,
+    }
 }

@@ -128,7 +128,9 @@ pub(crate) fn path_stretches(trace: &Trace, ray_idx: usize) -> (Vec<Stretch>, bo
         let events = trace.events_of(parent);
         // The branch starts where the parent met the same surface at the same point.
         let at = split.and_then(|s| {
-            events.iter().position(|e| e.point == s.point && e.object == s.object && e.edge == s.edge && !e.kind.is_end())
+            events
+                .iter()
+                .position(|e| e.point == s.point && e.object == s.object && e.edge == s.edge && !e.kind.is_end())
         });
         let n = at.unwrap_or(events.len());
         out.push(Stretch { ray: p, n_events: n });
@@ -245,7 +247,8 @@ fn step(scene: &Scene, e: &Event, path_mm: f64, optical_path_mm: f64) -> Step {
     let (n1, n2) = (f64::from(e.n1), f64::from(e.n2));
     let has_surface = surface.is_some() && e.kind != EventKind::Launch;
     let incidence_deg = has_surface.then_some(f64::from(e.incidence_deg));
-    let interface = has_surface && n1 != n2 && matches!(e.kind, EventKind::Refract | EventKind::Reflect | EventKind::Tir);
+    let interface =
+        has_surface && n1 != n2 && matches!(e.kind, EventKind::Refract | EventKind::Reflect | EventKind::Tir);
     let f = incidence_deg.filter(|_| interface).map(|i| fresnel(n1, n2, i.to_radians().cos()));
     let refraction_deg = f.and_then(|f| f.cos_t).map(|c| c.clamp(-1.0, 1.0).acos().to_degrees());
     let critical_deg = if interface { critical_angle(n1, n2).map(f64::to_degrees) } else { None };
@@ -269,19 +272,39 @@ fn step(scene: &Scene, e: &Event, path_mm: f64, optical_path_mm: f64) -> Step {
 
 impl fmt::Display for RayExplanation {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let source = self.source.as_ref().map_or_else(|| "an unknown source".to_owned(), |(id, n)| format!("\"{n}\" (id {id})"));
+        let source =
+            self.source.as_ref().map_or_else(|| "an unknown source".to_owned(), |(id, n)| format!("\"{n}\" (id {id})"));
         writeln!(f, "ray {} (id {}) at {} nm from {source}", self.ray_idx, self.ray_id, self.wavelength_nm)?;
         if !self.complete {
-            writeln!(f, "note: part of this path was not stored (event cap or a missing branch); shown as far as it was")?;
+            writeln!(
+                f,
+                "note: part of this path was not stored (event cap or a missing branch); shown as far as it was"
+            )?;
         }
         writeln!(
             f,
             "{:>3} {:<9} {:>21} {:<24} {:>15} {:>7} {:>7} {:>8} {:>8} {:>8} {:>8} {:>11} {:>11} {:>10}",
-            "#", "event", "point (mm)", "surface", "n1 -> n2", "inc °", "out °", "Rs", "Rp", "Ts", "Tp", "before W", "after W", "OPL mm"
+            "#",
+            "event",
+            "point (mm)",
+            "surface",
+            "n1 -> n2",
+            "inc °",
+            "out °",
+            "Rs",
+            "Rp",
+            "Ts",
+            "Tp",
+            "before W",
+            "after W",
+            "OPL mm"
         )?;
         for (k, s) in self.steps.iter().enumerate() {
             let point = format!("({:.4}, {:.4})", s.point.x, s.point.y);
-            let surface = s.surface.as_ref().map_or_else(|| "-".to_owned(), |x| format!("{} #{} edge {}", x.object, x.object_id, x.edge));
+            let surface = s
+                .surface
+                .as_ref()
+                .map_or_else(|| "-".to_owned(), |x| format!("{} #{} edge {}", x.object, x.object_id, x.edge));
             let angle = |a: Option<f64>| a.map_or_else(|| "-".to_owned(), |v| format!("{v:.2}"));
             let coef = |v: Option<f64>| v.map_or_else(|| "-".to_owned(), |v| format!("{v:.5}"));
             let fr = s.fresnel;

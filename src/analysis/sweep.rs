@@ -94,7 +94,10 @@ fn parse_fields(text: &str) -> Result<Vec<Field>, String> {
         }
         while let Some(r) = rest.strip_prefix('[') {
             let end = r.find(']').ok_or_else(|| format!("\"{token}\" has a '[' without ']'"))?;
-            let i = r[..end].trim().parse::<usize>().map_err(|_| format!("\"{token}\": [{}] is not an index", &r[..end]))?;
+            let i = r[..end]
+                .trim()
+                .parse::<usize>()
+                .map_err(|_| format!("\"{token}\": [{}] is not an index", &r[..end]))?;
             out.push(Field::Index(i));
             rest = &r[end + 1..];
         }
@@ -111,7 +114,9 @@ fn content(v: &Value) -> &Value {
     for _ in 0..8 {
         match v {
             Value::Object(m) if m.len() == 1 => match m.values().next() {
-                Some(inner @ (Value::Object(_) | Value::Array(_))) if !m.keys().all(|k| k.starts_with(char::is_lowercase)) => {
+                Some(inner @ (Value::Object(_) | Value::Array(_)))
+                    if !m.keys().all(|k| k.starts_with(char::is_lowercase)) =>
+                {
                     v = inner;
                 }
                 _ => break,
@@ -139,7 +144,8 @@ fn at<'v>(v: &'v mut Value, fields: &[Field], path: &str) -> Result<&'v mut Valu
     let mut walked = String::new();
     for f in fields {
         // Enum tags ({"Variant": {...}}) are stepped through, so paths read as in the file.
-        let tagged = matches!(&*cur, Value::Object(m) if m.len() == 1 && !m.keys().all(|k| k.starts_with(char::is_lowercase)));
+        let tagged =
+            matches!(&*cur, Value::Object(m) if m.len() == 1 && !m.keys().all(|k| k.starts_with(char::is_lowercase)));
         if tagged && !matches!(f, Field::Name(n) if cur.get(n).is_some()) {
             let shown = describe(cur);
             cur = match cur {
@@ -151,14 +157,18 @@ fn at<'v>(v: &'v mut Value, fields: &[Field], path: &str) -> Result<&'v mut Valu
         let shown = describe(cur);
         let index = match (f, &*cur) {
             (Field::Name(n), Value::Object(m)) if m.contains_key(n) => None,
-            (Field::Name(n), Value::Object(_)) => return Err(format!("{path}: {here} has no field \"{n}\"; its {shown}")),
+            (Field::Name(n), Value::Object(_)) => {
+                return Err(format!("{path}: {here} has no field \"{n}\"; its {shown}"));
+            }
             (Field::Name(n), Value::Array(a)) if a.len() == 2 && (n == "x" || n == "y") => Some(usize::from(n == "y")),
             (Field::Index(i), Value::Array(a)) if *i < a.len() => Some(*i),
             (Field::Index(i), Value::Array(a)) => {
                 return Err(format!("{path}: {here} has {} entries; index {i} does not exist", a.len()));
             }
             (Field::Name(n), _) => return Err(format!("{path}: {here} has no field \"{n}\"; it is {shown}")),
-            (Field::Index(i), _) => return Err(format!("{path}: {here} is not a list, [{i}] does not apply; it is {shown}")),
+            (Field::Index(i), _) => {
+                return Err(format!("{path}: {here} is not a list, [{i}] does not apply; it is {shown}"));
+            }
         };
         let next = match (f, index) {
             (_, Some(i)) => cur.get_mut(i),
@@ -194,7 +204,9 @@ fn set_number(slot: &mut Value, value: f64, path: &str) -> Result<(), String> {
         return Err(format!("{path} cannot be set to {value}"));
     }
     *slot = if n.is_f64() {
-        serde_json::Number::from_f64(value).map(Value::Number).ok_or_else(|| format!("{path} cannot be set to {value}"))?
+        serde_json::Number::from_f64(value)
+            .map(Value::Number)
+            .ok_or_else(|| format!("{path} cannot be set to {value}"))?
     } else {
         let r = value.round();
         if n.is_u64() && r >= 0.0 {
@@ -226,9 +238,8 @@ impl ParamPath {
             (Root::Material(name.to_owned()), r[end + 1..].strip_prefix('.').unwrap_or(&r[end + 1..]))
         } else {
             let (head, rest) = text.split_once('.').unwrap_or((text, ""));
-            let object = scene
-                .object_by_name(head)
-                .or_else(|| head.parse::<u64>().ok().and_then(|id| scene.object(id)));
+            let object =
+                scene.object_by_name(head).or_else(|| head.parse::<u64>().ok().and_then(|id| scene.object(id)));
             match object {
                 Some(o) => (Root::Object(o.id), rest),
                 None if head == "settings" => (Root::Settings, rest),
@@ -256,21 +267,24 @@ impl ParamPath {
             Root::Settings => Some(to_value(&scene.settings, text)),
             Root::Material(name) => scene.materials.iter().find(|m| &m.name == name).map(|m| to_value(m, text)),
         };
-        v.ok_or_else(|| SweepError::Param(format!("{text}: the object is no longer in the scene")))?.map_err(SweepError::Param)
+        v.ok_or_else(|| SweepError::Param(format!("{text}: the object is no longer in the scene")))?
+            .map_err(SweepError::Param)
     }
 
     /// The field's current value.
     pub fn get(&self, scene: &Scene) -> Result<f64, SweepError> {
         let mut v = self.root_value(scene)?;
         let slot = at(&mut v, &self.fields, &self.text).map_err(SweepError::Param)?;
-        slot.as_f64().ok_or_else(|| SweepError::Param(format!("{} is not a number; it is {}", self.text, describe(slot))))
+        slot.as_f64()
+            .ok_or_else(|| SweepError::Param(format!("{} is not a number; it is {}", self.text, describe(slot))))
     }
 
     /// A copy of `scene` with the field set to `value` (rounded for whole-number fields).
     pub fn set(&self, scene: &Scene, value: f64) -> Result<Scene, SweepError> {
         let text = &self.text;
         let mut v = self.root_value(scene)?;
-        set_number(at(&mut v, &self.fields, text).map_err(SweepError::Param)?, value, text).map_err(SweepError::Param)?;
+        set_number(at(&mut v, &self.fields, text).map_err(SweepError::Param)?, value, text)
+            .map_err(SweepError::Param)?;
         let mut out = scene.clone();
         match &self.root {
             Root::Object(id) => {
@@ -364,7 +378,10 @@ impl Metric {
             }
             Self::AbsorbedBy(n) if scene.object_by_name(n).is_none() => {
                 let have: Vec<&str> = scene.objects.iter().map(|o| o.name.as_str()).collect();
-                Err(SweepError::Metric(format!("{text}: no object is called \"{n}\"; the objects are: {}", have.join(", "))))
+                Err(SweepError::Metric(format!(
+                    "{text}: no object is called \"{n}\"; the objects are: {}",
+                    have.join(", ")
+                )))
             }
             _ => Ok(m),
         }
@@ -374,7 +391,9 @@ impl Metric {
     pub fn evaluate(&self, scene: &Scene, compiled: &Compiled, trace: &Trace) -> f64 {
         let b = &trace.budget;
         match self {
-            Self::Detected(n) => trace.detectors.iter().zip(&b.detected).filter(|(d, _)| &d.name == n).map(|(_, w)| w).sum(),
+            Self::Detected(n) => {
+                trace.detectors.iter().zip(&b.detected).filter(|(d, _)| &d.name == n).map(|(_, w)| w).sum()
+            }
             Self::AbsorbedBy(n) => {
                 let mut w = 0.0;
                 for (i, o) in scene.objects.iter().enumerate() {

@@ -82,7 +82,13 @@ pub fn annotations(scene: &Scene, x: &RayExplanation, mm_per_px: f64) -> String 
         );
         if inc < 0.05 {
             // Normal incidence: no arc to draw.
-            label(&mut out, p + n_in * (radius * 0.5) + Vec2::new(px(3.0), 0.0), &format!("{}: 0°", k + 1), font, "#d95f02");
+            label(
+                &mut out,
+                p + n_in * (radius * 0.5) + Vec2::new(px(3.0), 0.0),
+                &format!("{}: 0°", k + 1),
+                font,
+                "#d95f02",
+            );
             continue;
         }
         let (u1, u2) = (p + n_in * radius, p + back * radius);

@@ -62,9 +62,10 @@ pub fn analysis(scene: &crate::scene::Scene, trace: &Trace) -> Map<String, Value
         .collect();
     let mut uniformity = Map::new();
     for d in &trace.detectors {
-        let u = crate::analysis::detector_uniformity(scene, d).map_or(Value::Null, |u| {
-            json!({ "min_over_max": u.min_over_max, "min_over_mean": u.min_over_mean, "cv": u.cv })
-        });
+        let u = crate::analysis::detector_uniformity(scene, d).map_or(
+            Value::Null,
+            |u| json!({ "min_over_max": u.min_over_max, "min_over_mean": u.min_over_mean, "cv": u.cv }),
+        );
         uniformity.insert(d.name.clone(), u);
     }
     let mut out = Map::new();
