@@ -83,6 +83,18 @@ pub fn escape_cone(
     point: Vec2,
     wavelength_nm: f64,
 ) -> Result<EscapeCone, EscapeError> {
+    escape_cone_with(scene, &Compiled::new(scene), object_id, edge, point, wavelength_nm)
+}
+
+/// [`escape_cone`] with the scene already compiled (the editor keeps one per revision).
+pub fn escape_cone_with(
+    scene: &Scene,
+    compiled: &Compiled,
+    object_id: u64,
+    edge: u32,
+    point: Vec2,
+    wavelength_nm: f64,
+) -> Result<EscapeCone, EscapeError> {
     let index = scene.object_index(object_id).ok_or(EscapeError::NoObject(object_id))?;
     let object = &scene.objects[index];
     let ObjectKind::Solid(solid) = &object.kind else {
@@ -109,7 +121,6 @@ pub fn escape_cone(
         }
     };
     let n_inside = n_of(&solid.material)?;
-    let compiled = Compiled::new(scene);
     let probe = 1e-6 * compiled.scale.max(1.0);
     let medium = compiled.medium_at(on + outward * probe);
     let outside = match medium.checked_sub(1).and_then(|s| compiled.solids.get(s as usize)) {
@@ -170,11 +181,14 @@ pub fn escaped_by_edge(scene: &Scene, trace: &Trace) -> EscapedByEdge {
         };
         let w = power_before(last);
         stored_w += w;
-        let (stretches, _) = path_stretches(trace, k);
-        let crossed = stretches
-            .iter()
-            .rev()
-            .find_map(|st| trace.events_of(&trace.rays[st.ray])[..st.n_events].iter().rev().find(|e| is_crossing(e)));
+        // Most escapes crossed a surface on their own ray; only the others need their parents.
+        let own = events.iter().rev().find(|e| is_crossing(e));
+        let crossed = own.or_else(|| {
+            let (stretches, _) = path_stretches(trace, k);
+            stretches.iter().rev().find_map(|st| {
+                trace.events_of(&trace.rays[st.ray])[..st.n_events].iter().rev().find(|e| is_crossing(e))
+            })
+        });
         let surface = crossed.and_then(|e| event_surface(scene, e));
         *by.entry(surface).or_insert(0.0) += w;
     }

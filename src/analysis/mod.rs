@@ -6,7 +6,7 @@ pub mod explain;
 pub mod sweep;
 pub mod uniformity;
 
-pub use escape::{EdgeShare, EscapeCone, EscapeError, EscapedByEdge, escape_cone, escaped_by_edge};
+pub use escape::{EdgeShare, EscapeCone, EscapeError, EscapedByEdge, escape_cone, escape_cone_with, escaped_by_edge};
 pub use explain::{RayExplanation, Step, Surface, explain_ray, surface_edge};
 pub use sweep::{Metric, ParamPath, SweepError, sweep, sweep_with};
 pub use uniformity::{Uniformity, detector_uniformity, uniformity};
