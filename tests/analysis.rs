@@ -551,3 +551,20 @@ fn command_line_explains_and_annotates_a_ray() {
     let out = raydraft(&["trace", "scenes/prism_fold.ron", "--ray", "100000"]);
     assert_eq!(out.status.code(), Some(2));
 }
+
+#[test]
+fn a_sweep_of_source_power_matches_a_fresh_trace() {
+    // The compiled scene is reused when only a source's power changes; the result must be
+    // exactly what a fresh trace of the changed scene gives.
+    let s = rich_scene();
+    let p = ParamPath::parse(&s, "lamp.emission.power_w").expect("a parameter");
+    assert!(p.leaves_compiled_scene(&s));
+    assert!(!ParamPath::parse(&s, "beam.direction_deg").expect("a parameter").leaves_compiled_scene(&s));
+    let m = Metric::parse(&s, "escaped").expect("a metric");
+    let rows = sweep(&s, &p, 1.0, 3.0, 3, &m, &Control::new()).expect("sweeps");
+    let fresh = {
+        let changed = p.set(&s, 3.0).expect("sets");
+        run(&changed, &config(&changed, changed.settings.mode)).budget.escaped
+    };
+    assert!((rows[2].1 - fresh).abs() <= 1e-12 * fresh.abs().max(1.0), "{} vs {fresh}", rows[2].1);
+}

@@ -271,6 +271,25 @@ impl ParamPath {
             .map_err(SweepError::Param)
     }
 
+    /// Whether changing this field leaves [`Compiled`] unchanged: a source's power, ray count,
+    /// line weight or (for a point source) angular range. Positions, directions and
+    /// wavelengths move the bounds or the index tables, so they do not.
+    pub fn leaves_compiled_scene(&self, scene: &Scene) -> bool {
+        let Root::Object(id) = self.root else { return false };
+        let Some(o) = scene.object(id) else { return false };
+        let last = self.fields.last();
+        let is = |name: &str| matches!(last, Some(Field::Name(n)) if n == name);
+        match o.kind {
+            crate::scene::ObjectKind::PointSource(_) => {
+                is("power_w") || is("rays") || is("weight") || is("start_deg") || is("end_deg")
+            }
+            crate::scene::ObjectKind::BeamSource(_) | crate::scene::ObjectKind::LambertianSource(_) => {
+                is("power_w") || is("rays") || is("weight")
+            }
+            _ => false,
+        }
+    }
+
     /// The field's current value.
     pub fn get(&self, scene: &Scene) -> Result<f64, SweepError> {
         let mut v = self.root_value(scene)?;
@@ -505,18 +524,28 @@ pub fn sweep_with(
             return Err(SweepError::Param(format!("{param} = {v} makes the scene invalid: {problem}")));
         }
     }
+    // A change to a source's power, ray count, line weights or angular range leaves the
+    // compiled scene (edges, media, wavelengths, bounds) as it was: compile once.
+    let shared = scenes.first().filter(|_| param.leaves_compiled_scene(scene)).map(Compiled::new);
     let mut out = Vec::with_capacity(steps);
     for (k, (v, s)) in values.iter().zip(&scenes).enumerate() {
         if control.is_cancelled() {
             break;
         }
-        let compiled = Compiled::new(s);
+        let own;
+        let compiled = match &shared {
+            Some(c) => c,
+            None => {
+                own = Compiled::new(s);
+                &own
+            }
+        };
         let config = TraceConfig::from_scene(s);
-        let t = trace_compiled(s, &compiled, &config, control);
+        let t = trace_compiled(s, compiled, &config, control);
         if t.cancelled {
             break;
         }
-        out.push((*v, metric.evaluate(s, &compiled, &t)));
+        out.push((*v, metric.evaluate(s, compiled, &t)));
         on_step(k + 1, steps);
     }
     Ok(out)
