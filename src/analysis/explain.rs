@@ -63,6 +63,11 @@ pub fn surface_edge(scene: &Scene, surface: &Surface) -> Option<Edge> {
     }
 }
 
+/// The source object a ray came from.
+pub(crate) fn ray_source<'s>(scene: &'s Scene, ray: &RayRecord) -> Option<&'s crate::scene::Object> {
+    scene.objects.get(ray.source as usize)
+}
+
 /// Total power arriving at an event, W.
 pub(crate) fn power_before(e: &Event) -> f64 {
     f64::from(e.before_s) + f64::from(e.before_p)
@@ -231,7 +236,7 @@ pub fn explain_ray(scene: &Scene, trace: &Trace, ray_idx: usize) -> Option<RayEx
             steps.push(step(scene, e, path_mm, optical_mm));
         }
     }
-    let source = scene.objects.get(ray.source as usize).map(|o| (o.id, o.name.clone()));
+    let source = ray_source(scene, ray).map(|o| (o.id, o.name.clone()));
     Some(RayExplanation {
         ray_idx,
         ray_id: ray.id,
