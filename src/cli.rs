@@ -51,6 +51,8 @@ pub enum Command {
     },
     /// Print the refractive index of a library material, or list the library.
     Index(IndexArgs),
+    /// Change one number of a scene in steps, trace each time and print a metric as CSV.
+    Sweep(SweepArgs),
 }
 
 #[derive(Debug, clap::Args)]
@@ -81,6 +83,32 @@ pub struct TraceArgs {
     /// Threads to trace with, 1 to 256 (default: one per core).
     #[arg(long, value_name = "N")]
     pub threads: Option<usize>,
+    /// After the budget, explain stored ray N event by event (indices, angles, Fresnel R and T).
+    #[arg(long, value_name = "N", conflicts_with = "json")]
+    pub ray: Option<usize>,
+    /// Draw the normals, angles of incidence and critical angles along stored ray N into --svg.
+    #[arg(long, value_name = "N", requires = "svg")]
+    pub annotate_ray: Option<usize>,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct SweepArgs {
+    /// The scene file (.ron).
+    pub file: PathBuf,
+    /// The number to change, as OBJECT.FIELD (OBJECT a name or id, or `settings`, or
+    /// `materials[NAME]`), e.g. `beam.direction_deg` or `guide.shape.notch_depth`.
+    #[arg(long, value_name = "OBJECT.FIELD")]
+    pub param: String,
+    #[arg(long, value_name = "A", allow_negative_numbers = true)]
+    pub from: f64,
+    #[arg(long, value_name = "B", allow_negative_numbers = true)]
+    pub to: f64,
+    /// Number of values from A to B inclusive.
+    #[arg(long, value_name = "N")]
+    pub steps: usize,
+    /// detected:NAME, absorbed:NAME, escaped, absorbed, trapped, uniformity:NAME or deviation.
+    #[arg(long, value_name = "METRIC")]
+    pub metric: String,
 }
 
 #[derive(Debug, clap::Args)]
@@ -142,6 +170,7 @@ pub fn run(cli: Cli) -> Result<ExitCode, Failure> {
         Some(Command::Trace(args)) => trace(&args),
         Some(Command::Check { file }) => Ok(check(&file)),
         Some(Command::Index(args)) => index(&args),
+        Some(Command::Sweep(args)) => sweep(&args),
         None => {
             println!("The Raydraft editor is not built yet; for now the command line does the work.");
             if let Some(path) = cli.file {
@@ -224,8 +253,10 @@ fn trace(args: &TraceArgs) -> Result<ExitCode, Failure> {
         )));
     }
 
+    let explained = args.ray.or(args.annotate_ray).map(|k| explain(scene, &result, k)).transpose()?;
     if let Some(path) = &args.svg {
-        let svg = export::svg::render(scene, &result, &export::svg::SvgOptions::default());
+        let options = export::svg::SvgOptions { annotate_ray: args.annotate_ray, ..Default::default() };
+        let svg = export::svg::render(scene, &result, &options);
         write_output(path, &svg, "picture")?;
     }
     if let Some(path) = &args.csv {
@@ -238,11 +269,15 @@ fn trace(args: &TraceArgs) -> Result<ExitCode, Failure> {
         let mut value = export::json::budget(&report, &result);
         if let Some(fields) = value.as_object_mut() {
             fields.insert("partial".to_owned(), serde_json::Value::Bool(result.cancelled));
+            fields.extend(export::json::analysis(scene, &result));
         }
         let text = serde_json::to_string_pretty(&value).map_err(other)?;
         println!("{text}");
     } else {
         print!("{}", budget_text(scene, &args.file, &result, &report, elapsed.as_secs_f64()));
+        if let Some(x) = explained.filter(|_| args.ray.is_some()) {
+            print!("\n{x}");
+        }
     }
     if result.cancelled {
         let (done, total) = control.progress();
@@ -330,6 +365,45 @@ fn canonical_output(path: &Path) -> PathBuf {
         }
         _ => path.to_path_buf(),
     }
+}
+
+/// The explanation of stored ray `k`, or what range of rays there is.
+fn explain(scene: &Scene, trace: &Trace, k: usize) -> Result<raydraft::analysis::RayExplanation, Failure> {
+    raydraft::analysis::explain_ray(scene, trace, k).ok_or_else(|| {
+        bad_input(anyhow!(
+            "ray {k} was not stored: the trace kept {} rays (numbered from 0); pick one of those",
+            trace.rays.len()
+        ))
+    })
+}
+
+/// Runs a parameter sweep and prints `value,metric` CSV; a progress line goes to stderr when
+/// it is a terminal.
+fn sweep(args: &SweepArgs) -> Result<ExitCode, Failure> {
+    use raydraft::analysis::{Metric, ParamPath, sweep_with};
+    use std::io::IsTerminal as _;
+    let loaded = load(&args.file)?;
+    print_load_warnings(&args.file, &loaded);
+    let scene = &loaded.scene;
+    let param = ParamPath::parse(scene, &args.param).map_err(bad_input)?;
+    let metric = Metric::parse(scene, &args.metric).map_err(bad_input)?;
+    let tty = std::io::stderr().is_terminal();
+    let mut progress = |done: usize, all: usize| {
+        if tty {
+            eprint!("\rstep {done} of {all}");
+        }
+    };
+    let rows = sweep_with(scene, &param, args.from, args.to, args.steps, &metric, &Control::new(), &mut progress)
+        .map_err(bad_input)?;
+    if tty {
+        eprintln!();
+    }
+    let mut out = String::from("value,metric\n");
+    for (v, m) in rows {
+        let _ = writeln!(out, "{v},{m}");
+    }
+    print!("{out}");
+    Ok(ExitCode::SUCCESS)
 }
 
 fn write_output(path: &Path, text: &str, what: &str) -> Result<(), Failure> {

@@ -1,6 +1,16 @@
 //! Turning a [`Trace`] into numbers people read: the power budget by named sink, and
 //! detector histograms. Pure functions of the scene and the trace.
 
+pub mod escape;
+pub mod explain;
+pub mod sweep;
+pub mod uniformity;
+
+pub use escape::{EdgeShare, EscapeCone, EscapeError, EscapedByEdge, escape_cone, escape_cone_with, escaped_by_edge};
+pub use explain::{RayExplanation, Step, Surface, explain_ray, surface_edge};
+pub use sweep::{Metric, ParamPath, SweepError, sweep, sweep_with};
+pub use uniformity::{Uniformity, detector_uniformity, uniformity};
+
 use crate::scene::{ObjectKind, Scene};
 use crate::trace::{DetectorResult, Trace};
 

@@ -54,3 +54,34 @@ pub fn budget(report: &BudgetReport, trace: &Trace) -> Value {
         "warnings": trace.warnings,
     })
 }
+
+/// The analysis figures added to the JSON budget: `escaped_by_edge` (escaped power by the
+/// surface it last crossed, largest first, with `truncated` when the event cap cut the stored
+/// events) and `uniformity` (per detector name: min/max, min/mean and the coefficient of
+/// variation of its irradiance histogram; null when no light arrived).
+pub fn analysis(scene: &crate::scene::Scene, trace: &Trace) -> Map<String, Value> {
+    let by = crate::analysis::escaped_by_edge(trace);
+    let shares: Vec<Value> = by
+        .shares
+        .iter()
+        .map(|s| match &s.surface {
+            Some(x) => json!({ "object_id": x.object_id, "object": x.object, "edge": x.edge, "w": s.w }),
+            None => json!({ "object_id": null, "object": null, "edge": null, "w": s.w }),
+        })
+        .collect();
+    let mut uniformity = Map::new();
+    for d in &trace.detectors {
+        let u = crate::analysis::detector_uniformity(scene, d).map_or(
+            Value::Null,
+            |u| json!({ "min_over_max": u.min_over_max, "min_over_mean": u.min_over_mean, "cv": u.cv }),
+        );
+        uniformity.insert(d.name.clone(), u);
+    }
+    let mut out = Map::new();
+    out.insert(
+        "escaped_by_edge".to_owned(),
+        json!({ "shares": shares, "stored_w": by.stored_w, "truncated": by.truncated }),
+    );
+    out.insert("uniformity".to_owned(), Value::Object(uniformity));
+    out
+}

@@ -24,11 +24,14 @@ pub struct SvgOptions {
     /// Largest width and height of the picture in pixels.
     pub max_width_px: f64,
     pub max_height_px: f64,
+    /// Draw the normals, angles of incidence and critical angles along this stored ray
+    /// (a position in `trace.rays`); see [`crate::export::annotate`].
+    pub annotate_ray: Option<usize>,
 }
 
 impl Default for SvgOptions {
     fn default() -> Self {
-        Self { max_rays: 20_000, max_tir_marks: 3_000, max_width_px: 1200.0, max_height_px: 800.0 }
+        Self { max_rays: 20_000, max_tir_marks: 3_000, max_width_px: 1200.0, max_height_px: 800.0, annotate_ray: None }
     }
 }
 
@@ -189,6 +192,9 @@ pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
     write_elements(&mut out, scene, &f);
     write_rays(&mut out, trace, n_drawn, &f);
     let n_tir = write_tir_marks(&mut out, trace, n_drawn, options.max_tir_marks, &f);
+    if let Some(k) = options.annotate_ray {
+        out.push_str(&crate::export::annotate::ray_annotations(scene, trace, k, f.px(1.0)));
+    }
     let _ = writeln!(out, "</g>");
     legend(&mut out, scene, trace, n_drawn, n_tir, &f);
     let _ = writeln!(out, "</svg>");
