@@ -406,8 +406,12 @@ fn sweep(args: &SweepArgs) -> Result<ExitCode, Failure> {
     Ok(ExitCode::SUCCESS)
 }
 
+/// Writes an output file atomically: a killed or failed run never leaves a truncated file
+/// in place of a good one.
 fn write_output(path: &Path, text: &str, what: &str) -> Result<(), Failure> {
-    std::fs::write(path, text).with_context(|| format!("cannot write the {what} to {}", path.display())).map_err(other)
+    file::write_atomically(path, text.as_bytes(), false)
+        .with_context(|| format!("cannot write the {what} to {}", path.display()))
+        .map_err(other)
 }
 
 /// The power budget as a table people read.

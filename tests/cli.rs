@@ -452,3 +452,41 @@ fn the_json_budget_lists_absorbers_and_detectors_by_id_and_name() {
     let detectors = json["detectors"].as_array().expect("detectors");
     assert_eq!((detectors[0]["id"].as_u64(), detectors[0]["name"].as_str()), (Some(4), Some("viewing plane")));
 }
+
+#[test]
+fn a_killed_run_never_leaves_a_truncated_output_in_place_of_a_good_one() {
+    // Whenever the run is killed, the events table is either the good file that was there
+    // before or the complete new one: outputs are written to a temporary file and renamed.
+    let dir = tempfile::tempdir().expect("temp dir");
+    let events = dir.path().join("events.csv");
+    let old = "a good table from an earlier run\n";
+    for wait_ms in [0u64, 30, 80, 150, 300, 600] {
+        std::fs::write(&events, old).expect("old table");
+        let mut child = Command::new(env!("CARGO_BIN_EXE_raydraft"))
+            .args(["trace", "scenes/light_guide.ron", "--rays", "3000", "--events"])
+            .arg(&events)
+            .current_dir(env!("CARGO_MANIFEST_DIR"))
+            .stdout(std::process::Stdio::null())
+            .stderr(std::process::Stdio::null())
+            .spawn()
+            .expect("start raydraft");
+        std::thread::sleep(std::time::Duration::from_millis(wait_ms));
+        let _ = child.kill(); // SIGKILL on Unix
+        let _ = child.wait();
+        let now = std::fs::read_to_string(&events).expect("the table is still there");
+        if now != old {
+            assert!(now.starts_with("ray,parent,") && now.ends_with('\n'), "a truncated table after {wait_ms} ms");
+            let columns = now.lines().next().map_or(0, |h| h.split(',').count());
+            assert!(now.lines().all(|l| l.split(',').count() == columns), "a cut row after {wait_ms} ms");
+        }
+        let leftovers: Vec<_> = std::fs::read_dir(dir.path())
+            .expect("list")
+            .filter_map(Result::ok)
+            .filter(|e| e.file_name() != "events.csv")
+            .collect();
+        // A temporary file may be left by a kill, but it never replaces the table.
+        for e in leftovers {
+            assert!(e.file_name().to_string_lossy().ends_with(".tmp"), "{:?}", e.file_name());
+        }
+    }
+}

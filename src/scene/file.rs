@@ -386,9 +386,18 @@ pub fn to_string(scene: &Scene) -> Result<String, SaveError> {
 pub fn save(scene: &Scene, path: impl AsRef<Path>) -> Result<(), SaveError> {
     let path = path.as_ref();
     let text = to_string(scene)?;
-    let io_err = |source: io::Error| SaveError::Io { path: path.display().to_string(), source };
+    write_atomically(path, text.as_bytes(), true)
+        .map_err(|source| SaveError::Io { path: path.display().to_string(), source })
+}
+
+/// Writes `bytes` to `path` so that a crash, a kill or a full disk never leaves a truncated
+/// file in its place: the bytes go to a temporary file in the same folder, which is synced
+/// and then renamed over `path`. With `backup`, an existing file is first copied to
+/// `NAME.bak` beside it. On failure the temporary file is removed and `path` is untouched.
+pub fn write_atomically(path: &Path, bytes: &[u8], backup: bool) -> io::Result<()> {
+    static COUNTER: std::sync::atomic::AtomicU64 = std::sync::atomic::AtomicU64::new(0);
     let Some(file_name) = path.file_name() else {
-        return Err(io_err(io::Error::new(io::ErrorKind::InvalidInput, "the path does not name a file")));
+        return Err(io::Error::new(io::ErrorKind::InvalidInput, "the path does not name a file"));
     };
     let folder = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
@@ -396,30 +405,31 @@ pub fn save(scene: &Scene, path: impl AsRef<Path>) -> Result<(), SaveError> {
     };
     let mut temp_name = std::ffi::OsString::from(".");
     temp_name.push(file_name);
-    temp_name.push(format!(".{}.tmp", std::process::id()));
+    let n = COUNTER.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+    temp_name.push(format!(".{}-{n}.tmp", std::process::id()));
     let temp = folder.join(temp_name);
     let write_temp = || -> io::Result<()> {
         let mut f = fs::File::create(&temp)?;
-        f.write_all(text.as_bytes())?;
+        f.write_all(bytes)?;
         f.flush()?;
         f.sync_all()
     };
     if let Err(e) = write_temp() {
         // The temporary file is ours and incomplete; losing it is right.
         let _ = fs::remove_file(&temp);
-        return Err(io_err(e));
+        return Err(e);
     }
-    if path.exists() {
+    if backup && path.exists() {
         let mut backup_name = file_name.to_os_string();
         backup_name.push(".bak");
         if let Err(e) = fs::copy(path, folder.join(backup_name)) {
             let _ = fs::remove_file(&temp);
-            return Err(io_err(e));
+            return Err(e);
         }
     }
     if let Err(e) = fs::rename(&temp, path) {
         let _ = fs::remove_file(&temp);
-        return Err(io_err(e));
+        return Err(e);
     }
     // Make the rename itself durable where the platform allows syncing a folder.
     if let Ok(dir) = fs::File::open(&folder) {
@@ -579,5 +589,34 @@ mod tests {
     fn strings_and_comments_are_skipped() {
         assert_eq!(find_non_finite("(t: \"NaN \\\" inf\", // inf\n /* NaN /* inf */ */ n: r#\"NaN\"#)"), None);
         assert_eq!(find_non_finite("(information: 1.0, nancy: 2.0)"), None);
+    }
+}
+
+#[cfg(test)]
+mod atomic_tests {
+    use super::*;
+
+    #[test]
+    fn a_failed_write_leaves_the_old_file_and_no_temporary_file() {
+        let dir = tempfile::tempdir().expect("temp dir");
+        // A folder where the file should be: the rename over it fails.
+        let target = dir.path().join("out.csv");
+        fs::create_dir(&target).expect("folder");
+        fs::write(target.join("keep"), "kept").expect("inside");
+        assert!(write_atomically(&target, b"new", false).is_err());
+        assert_eq!(fs::read_to_string(target.join("keep")).expect("kept"), "kept");
+        let names: Vec<_> =
+            fs::read_dir(dir.path()).expect("list").filter_map(Result::ok).map(|e| e.file_name()).collect();
+        assert_eq!(names.len(), 1, "{names:?}");
+    }
+
+    #[test]
+    fn a_write_replaces_the_file_whole() {
+        let dir = tempfile::tempdir().expect("temp dir");
+        let target = dir.path().join("out.csv");
+        fs::write(&target, "old").expect("old");
+        write_atomically(&target, b"new contents", false).expect("writes");
+        assert_eq!(fs::read_to_string(&target).expect("read"), "new contents");
+        assert_eq!(fs::read_dir(dir.path()).expect("list").count(), 1);
     }
 }
