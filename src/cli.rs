@@ -178,7 +178,7 @@ fn trace(args: &TraceArgs) -> Result<ExitCode, Failure> {
     config.rays = args.rays;
     config.threads = args.threads;
     let started = Instant::now();
-    let compiled = Compiled::new(scene);
+    let compiled = Compiled::with_checks(scene, loaded.checks.clone());
     let result = trace_compiled(scene, &compiled, &config, &Control::new());
     let elapsed = started.elapsed();
     let report = budget_report(scene, &compiled, &result);

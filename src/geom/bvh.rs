@@ -148,6 +148,8 @@ pub struct Bvh {
     nodes: Vec<Node>,
     prims: Vec<Prim>,
     arcs: Vec<ArcPrim>,
+    /// [`Bvh::cost`] when the tree was built; a refit that makes it much worse rebuilds.
+    built_cost: f64,
 }
 
 impl Bvh {
@@ -164,7 +166,48 @@ impl Bvh {
         }
         let mut arcs = Vec::new();
         let prims = idx.iter().map(|&i| Prim::new(&edges[i as usize], i, &mut arcs)).collect();
-        Self { nodes, prims, arcs }
+        let mut bvh = Self { nodes, prims, arcs, built_cost: 0.0 };
+        bvh.built_cost = bvh.cost();
+        bvh
+    }
+
+    /// Moves the tree's edges to `edges` (the same number as it was built over, edge `i`
+    /// replacing edge `i`) keeping the tree's shape and recomputing its boxes from the
+    /// leaves up: O(n), for edits that move vertices. Returns `false`, leaving the tree
+    /// unusable until rebuilt, if the number of edges differs or if the refitted tree's
+    /// [`Bvh::cost`] has grown past twice that of the tree as built (its boxes then overlap
+    /// so much that a new tree pays for itself).
+    #[must_use]
+    pub fn refit(&mut self, edges: &[Edge]) -> bool {
+        if edges.len() != self.prims.len() {
+            return false;
+        }
+        if edges.is_empty() {
+            return true;
+        }
+        self.arcs.clear();
+        for p in &mut self.prims {
+            *p = Prim::new(&edges[p.id as usize], p.id, &mut self.arcs);
+        }
+        // Children always come after their parent, so one pass backwards refits.
+        for ni in (0..self.nodes.len()).rev() {
+            let Node { first, count, .. } = self.nodes[ni];
+            let (first, count) = (first as usize, count as usize);
+            self.nodes[ni].bb = if count > 0 {
+                self.prims[first..first + count]
+                    .iter()
+                    .fold(Aabb::EMPTY, |acc, p| acc.union(&edges[p.id as usize].aabb()))
+            } else {
+                self.nodes[first].bb.union(&self.nodes[first + 1].bb)
+            };
+        }
+        self.cost() <= 2.0 * self.built_cost
+    }
+
+    /// Sum of the half perimeters of all node boxes: a measure of how much work a query
+    /// does, used to tell when a refitted tree has degraded.
+    pub fn cost(&self) -> f64 {
+        self.nodes.iter().map(|n| half_perimeter(&n.bb)).sum()
     }
 
     pub fn len(&self) -> usize {

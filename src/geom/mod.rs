@@ -6,14 +6,16 @@
 //! outward for a counter-clockwise outline. Nothing here knows about optics.
 
 mod aabb;
+mod boxtree;
 mod bvh;
 mod edge;
 mod outline;
 
 pub use aabb::Aabb;
+pub use boxtree::BoxTree;
 pub use bvh::{Bvh, BvhHit};
 pub use edge::{ArcGeom, Edge, EdgeHit};
-pub use outline::{Outline, OutlineError};
+pub use outline::{Outline, OutlineError, crossing_pairs};
 
 /// A point or a direction in the plane, in millimetres.
 pub type Vec2 = nalgebra::Vector2<f64>;

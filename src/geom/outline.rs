@@ -1,4 +1,4 @@
-use super::{Aabb, Edge, Vec2, cross};
+use super::{Aabb, BoxTree, Edge, Vec2, cross};
 
 /// The most vertices one outline may have (a notched light guide with 10 000 notches has
 /// about 30 000).
@@ -182,39 +182,63 @@ impl Outline {
     }
 
     /// The first pair of non-adjacent edges that cross, with the crossing point. Arcs are
-    /// replaced by polylines with a point every 2°.
+    /// replaced by polylines with a point every 2°. Pieces are found through a tree of their
+    /// boxes, so the check stays near n log n however the outline is turned.
     fn first_crossing(&self) -> Option<(usize, usize, Vec2)> {
         let pieces = self.pieces(0);
         let n = self.vertices.len();
         let tol = 1e-9 * self.aabb().extent();
-        sweep(&pieces, tol, |(ei, a1, b1), (ej, a2, b2)| {
-            let adjacent = ei == ej || (ei + 1) % n == ej || (ej + 1) % n == ei;
-            segments_cross(a1, b1, a2, b2, tol, adjacent).map(|p| (ei.min(ej), ei.max(ej), p))
-        })
+        let tree = BoxTree::build(pieces.iter().map(|p| piece_box(p, tol)).collect());
+        let mut found = None;
+        for (k, &(ei, a1, b1)) in pieces.iter().enumerate() {
+            let stop = tree.overlapping(tree.item_box(k), |m| {
+                let m = m as usize;
+                if m <= k {
+                    return false;
+                }
+                let (ej, a2, b2) = pieces[m];
+                let adjacent = ei == ej || (ei + 1) % n == ej || (ej + 1) % n == ei;
+                found = segments_cross(a1, b1, a2, b2, tol, adjacent).map(|p| (ei.min(ej), ei.max(ej), p));
+                found.is_some()
+            });
+            if stop {
+                return found;
+            }
+        }
+        None
     }
 
     /// A point where the boundaries of this outline and `other` properly cross, if any: then
     /// the two overlap without one containing the other. Boundaries that only touch (a
-    /// shared face, a vertex on an edge) do not count.
+    /// shared face, a vertex on an edge) do not count. The answer depends only on the two
+    /// outlines (the first crossing piece of `self` in order, then of `other` in tree order).
     pub fn crossing_with(&self, other: &Outline) -> Option<Vec2> {
-        let n = self.vertices.len();
-        let mut pieces = self.pieces(0);
-        pieces.extend(other.pieces(n));
         let tol = 1e-9 * self.aabb().union(&other.aabb()).extent();
-        sweep(&pieces, tol, |(ei, a1, b1), (ej, a2, b2)| {
-            if (ei < n) == (ej < n) {
-                return None;
-            }
+        let theirs = other.pieces(0);
+        let tree = BoxTree::build(theirs.iter().map(|p| piece_box(p, tol)).collect());
+        for p in self.pieces(0) {
+            let mut found = None;
             // `adjacent = true` asks for a proper crossing only.
-            segments_cross(a1, b1, a2, b2, tol, true)
-        })
+            if tree.overlapping(&piece_box(&p, tol), |m| {
+                let (_, a2, b2) = theirs[m as usize];
+                found = segments_cross(p.1, p.2, a2, b2, tol, true);
+                found.is_some()
+            }) {
+                return found;
+            }
+        }
+        None
     }
 
     /// The edges as straight pieces `(edge index + offset, a, b)`, arcs as polylines with a
     /// point every 2°.
-    fn pieces(&self, offset: usize) -> Vec<(usize, Vec2, Vec2)> {
+    pub(crate) fn pieces(&self, offset: usize) -> Vec<(usize, Vec2, Vec2)> {
         let mut pieces = Vec::with_capacity(self.vertices.len());
         for (i, e) in self.edges().enumerate() {
+            if e.arc().is_none() {
+                pieces.push((i + offset, e.a, e.b));
+                continue;
+            }
             let pts = e.polyline(2f64.to_radians());
             for w in pts.windows(2) {
                 pieces.push((i + offset, w[0], w[1]));
@@ -224,29 +248,39 @@ impl Outline {
     }
 }
 
-/// Sweeps over x: calls `test` for every pair of pieces whose x-ranges overlap (within
-/// `tol`) and returns its first answer.
-fn sweep<T>(
-    pieces: &[(usize, Vec2, Vec2)],
-    tol: f64,
-    mut test: impl FnMut((usize, Vec2, Vec2), (usize, Vec2, Vec2)) -> Option<T>,
-) -> Option<T> {
-    let minx = |k: usize| pieces[k].1.x.min(pieces[k].2.x);
-    let maxx = |k: usize| pieces[k].1.x.max(pieces[k].2.x);
-    let mut order: Vec<usize> = (0..pieces.len()).collect();
-    order.sort_by(|&a, &b| minx(a).total_cmp(&minx(b)));
-    let mut active: Vec<usize> = Vec::new();
-    for &k in &order {
-        let x0 = minx(k);
-        active.retain(|&m| maxx(m) >= x0 - tol);
-        for &m in &active {
-            if let Some(t) = test(pieces[k], pieces[m]) {
-                return Some(t);
-            }
-        }
-        active.push(k);
+/// The pairs `(i, j)`, `i < j`, of outlines whose boundaries properly cross (as
+/// [`Outline::crossing_with`] would find), in order. One tree over the pieces of all
+/// outlines, so nested or crowded outlines cost near n log n in their pieces, not one test
+/// per pair of outlines whose boxes overlap.
+pub fn crossing_pairs(outlines: &[&Outline]) -> Vec<(usize, usize)> {
+    let boxes: Vec<Aabb> = outlines.iter().map(|o| o.aabb()).collect();
+    let all = boxes.iter().fold(Aabb::EMPTY, |acc, b| acc.union(b));
+    let tol_max = 1e-9 * all.extent();
+    let mut pieces = Vec::new();
+    for (k, o) in outlines.iter().enumerate() {
+        pieces.extend(o.pieces(0).into_iter().map(|(_, a, b)| (k, a, b)));
     }
-    None
+    let tree = BoxTree::build(pieces.iter().map(|p| piece_box(p, tol_max)).collect());
+    let mut pairs = std::collections::BTreeSet::new();
+    for (k, &(i, a1, b1)) in pieces.iter().enumerate() {
+        tree.overlapping(tree.item_box(k), |m| {
+            let (j, a2, b2) = pieces[m as usize];
+            if j <= i || pairs.contains(&(i, j)) {
+                return false;
+            }
+            let tol = 1e-9 * boxes[i].union(&boxes[j]).extent();
+            if segments_cross(a1, b1, a2, b2, tol, true).is_some() {
+                pairs.insert((i, j));
+            }
+            false
+        });
+    }
+    pairs.into_iter().collect()
+}
+
+/// The box of a piece, grown by `tol`.
+fn piece_box(p: &(usize, Vec2, Vec2), tol: f64) -> Aabb {
+    Aabb::from_points([p.1, p.2]).expanded(tol)
 }
 
 /// Whether two segments cross. For pieces of the same or adjacent edges only a proper

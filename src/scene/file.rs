@@ -21,7 +21,7 @@ use std::path::{Path, PathBuf};
 use serde::Deserialize;
 
 use super::validate::Severity;
-use super::{Problem, SCENE_VERSION, Scene, validate};
+use super::{Problem, SCENE_VERSION, Scene, validate_with};
 
 /// A scene read from a file, with the warnings found while checking it.
 #[derive(Clone, Debug, PartialEq)]
@@ -29,6 +29,9 @@ pub struct Loaded {
     pub scene: Scene,
     /// Problems that do not stop a trace but may make a result mislead.
     pub warnings: Vec<Problem>,
+    /// The geometric checks made while loading; hand them to
+    /// [`crate::trace::Compiled::with_checks`] so the outlines are not validated again.
+    pub checks: super::validate::GeometryChecks,
 }
 
 /// Why a scene file could not be loaded. Every message starts with the file (and the line
@@ -113,11 +116,12 @@ pub fn from_str(text: &str, path_for_messages: &str) -> Result<Loaded, LoadError
         Some(0) => return Err(LoadError::BadVersion { path, version: 0 }),
         Some(version) => return Err(LoadError::NewerVersion { path, version }),
     };
-    let problems = validate(&scene);
+    let mut checks = super::validate::GeometryChecks::default();
+    let problems = validate_with(&scene, &mut checks);
     if problems.iter().any(|p| p.severity == Severity::Error) {
         return Err(LoadError::Invalid { path, problems });
     }
-    Ok(Loaded { scene, warnings: problems })
+    Ok(Loaded { scene, warnings: problems, checks })
 }
 
 /// Just the version of a scene file; every other field is skipped unread.

@@ -15,7 +15,7 @@ use crate::optics::Material;
 
 pub use file::{LoadError, Loaded, SaveError};
 pub use shapes::Shape;
-pub use validate::{Problem, validate};
+pub use validate::{GeometryChecks, Problem, validate, validate_with};
 
 /// The version of the scene schema written by this build.
 pub const SCENE_VERSION: u32 = 1;
