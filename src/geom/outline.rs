@@ -75,6 +75,20 @@ impl Outline {
     /// Winding number of the outline around `p` (arcs included). Points exactly on an edge
     /// may count either way.
     pub fn winding(&self, p: Vec2) -> i32 {
+        // The winding is that of the chord polygon plus that of each arc's circular segment.
+        // A point exactly on an arc's chord (a ball's centre line, say) lies between the two
+        // and would count in neither: move it off the chord, towards the arc, by a distance
+        // far below any tolerance of the scene.
+        let mut p = p;
+        for e in self.edges() {
+            if let Some(arc) = e.arc() {
+                let d = e.b - e.a;
+                if cross(d, p - e.a) == 0.0 && (p - arc.center).norm_squared() < arc.radius * arc.radius {
+                    p += Vec2::new(d.y, -d.x) * (arc.side * 1e-12);
+                    break;
+                }
+            }
+        }
         let n = self.vertices.len();
         let mut w = 0;
         for i in 0..n {

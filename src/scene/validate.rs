@@ -176,6 +176,8 @@ pub fn validate_with(scene: &Scene, checks: &mut GeometryChecks) -> Vec<Problem>
     }
     let mut ids = HashSet::new();
     let mut object_names = HashSet::new();
+    // Once, not once per solid: a scene of many solids would check in quadratic time.
+    let wavelengths = source_wavelengths(scene);
     // Usable solid outlines, for the overlap check at the end.
     let mut usable: Vec<(u64, &str, Arc<Outline>, Aabb)> = Vec::new();
     for o in &scene.objects {
@@ -191,7 +193,7 @@ pub fn validate_with(scene: &Scene, checks: &mut GeometryChecks) -> Vec<Problem>
                 match scene.material(&solid.material) {
                     None => c.error(format!("the material \"{}\" is not defined; {}", solid.material, material_hint())),
                     Some(m) => {
-                        for nm in source_wavelengths(scene) {
+                        for &nm in &wavelengths {
                             if !m.is_in_valid_range(nm) {
                                 c.warning(format!(
                                     "{nm} nm is outside the range where the data for \"{}\" are valid ({}–{} nm)",

@@ -733,3 +733,29 @@ fn encloses(outer: &SolidInfo, inner: &SolidInfo) -> bool {
 fn near_boundary(o: &Outline, q: Vec2, tol: f64) -> bool {
     o.edges().any(|e| e.aabb().expanded(tol).contains(q) && (e.point_at(e.param_of(q)) - q).norm() <= tol)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::scene::{Object, Solid};
+
+    #[test]
+    fn concentric_balls_nest_with_points_on_their_chords_inside() {
+        let mut s = Scene::new("t");
+        for k in 0..3 {
+            s.objects.push(Object {
+                id: k + 1,
+                name: format!("b{k}"),
+                kind: ObjectKind::Solid(Solid {
+                    shape: crate::scene::Shape::Ball { position: (0.0, 0.0), radius: 1.0 + k as f64 },
+                    material: "pmma".into(),
+                }),
+            });
+        }
+        let c = Compiled::new(&s);
+        let got: Vec<_> = c.solids.iter().map(|s| (s.parent, s.depth)).collect();
+        assert_eq!(got, [(Some(1), 2), (Some(2), 1), (None, 0)]);
+        // On the balls' common chord line: inside the innermost.
+        assert_eq!(c.medium_at(Vec2::new(0.5, 0.0)), 1);
+    }
+}
