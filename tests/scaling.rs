@@ -102,9 +102,19 @@ fn nested_rectangles_touching_and_overlapping_are_told_apart() {
 #[test]
 fn twenty_thousand_separate_squares_check_clean() {
     let mut s = scene();
+    let material = constant(&mut s, 1.5);
     for i in 0..142 {
         for j in 0..142 {
-            solid(&mut s, &format!("sq{i}-{j}"), rect(2.0 * i as f64, 2.0 * j as f64, 1.0, 1.0), 1.5);
+            // Pushed directly: `Scene::add` looks for a free id among all objects each time.
+            let id = s.objects.len() as u64 + 10;
+            s.objects.push(raydraft::scene::Object {
+                id,
+                name: format!("sq{i}-{j}"),
+                kind: raydraft::scene::ObjectKind::Solid(raydraft::scene::Solid {
+                    shape: rect(2.0 * i as f64, 2.0 * j as f64, 1.0, 1.0),
+                    material: material.clone(),
+                }),
+            });
         }
     }
     assert_eq!(s.objects.len(), 20_164);

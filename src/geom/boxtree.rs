@@ -87,9 +87,13 @@ impl BoxTree {
         if self.nodes.is_empty() {
             return false;
         }
-        let mut stack = vec![0usize];
-        while let Some(ni) = stack.pop() {
-            let n = &self.nodes[ni];
+        // Median splits halve the count at each level, so the tree is at most 64 deep and
+        // the stack (one pending sibling per level) never overflows.
+        let mut stack = [0u32; 66];
+        let mut sp = 1usize;
+        while sp > 0 {
+            sp -= 1;
+            let n = &self.nodes[stack[sp] as usize];
             if !n.bb.overlaps(query) {
                 continue;
             }
@@ -101,8 +105,70 @@ impl BoxTree {
                     }
                 }
             } else {
-                stack.push(n.first as usize + 1);
-                stack.push(n.first as usize);
+                stack[sp] = n.first + 1;
+                stack[sp + 1] = n.first;
+                sp += 2;
+            }
+        }
+        false
+    }
+}
+
+impl BoxTree {
+    /// Calls `visit` once with every pair of distinct items whose boxes overlap (in either
+    /// order), until `visit` returns `true`; returns whether it did. Walks pairs of nodes
+    /// (a self-join), so each pair is met once and no query starts again from the root.
+    pub fn overlapping_pairs(&self, mut visit: impl FnMut(u32, u32) -> bool) -> bool {
+        if self.nodes.is_empty() {
+            return false;
+        }
+        let mut stack: Vec<(u32, u32)> = vec![(0, 0)];
+        while let Some((a, b)) = stack.pop() {
+            let (na, nb) = (&self.nodes[a as usize], &self.nodes[b as usize]);
+            if a == b {
+                if na.count > 0 {
+                    let items = &self.items[na.first as usize..(na.first + na.count) as usize];
+                    for (k, &i) in items.iter().enumerate() {
+                        for &j in &items[k + 1..] {
+                            if self.boxes[i as usize].overlaps(&self.boxes[j as usize]) && visit(i, j) {
+                                return true;
+                            }
+                        }
+                    }
+                } else {
+                    let c = na.first;
+                    stack.extend([(c + 1, c + 1), (c, c + 1), (c, c)]);
+                }
+                continue;
+            }
+            if !na.bb.overlaps(&nb.bb) {
+                continue;
+            }
+            match (na.count > 0, nb.count > 0) {
+                (true, true) => {
+                    for &i in &self.items[na.first as usize..(na.first + na.count) as usize] {
+                        let bi = &self.boxes[i as usize];
+                        if !bi.overlaps(&nb.bb) {
+                            continue;
+                        }
+                        for &j in &self.items[nb.first as usize..(nb.first + nb.count) as usize] {
+                            if bi.overlaps(&self.boxes[j as usize]) && visit(i, j) {
+                                return true;
+                            }
+                        }
+                    }
+                }
+                // Open the inner node (the larger box if both are inner).
+                (false, true) => stack.extend([(na.first + 1, b), (na.first, b)]),
+                (true, false) => stack.extend([(a, nb.first + 1), (a, nb.first)]),
+                (false, false) => {
+                    let s = |n: &Node| n.bb.size().x + n.bb.size().y;
+                    if s(na) >= s(nb) {
+                        stack.extend([(na.first + 1, b), (na.first, b)]);
+                    } else {
+                        stack.extend([(a, nb.first + 1), (a, nb.first)]);
+                    }
+                }
             }
         }
         false
@@ -133,5 +199,20 @@ mod tests {
             let want: Vec<usize> = (0..boxes.len()).filter(|&i| boxes[i].overlaps(q)).collect();
             assert_eq!(got, want);
         }
+        let mut got = Vec::new();
+        tree.overlapping_pairs(|i, j| {
+            got.push((i.min(j) as usize, i.max(j) as usize));
+            false
+        });
+        got.sort_unstable();
+        let mut want = Vec::new();
+        for i in 0..boxes.len() {
+            for j in i + 1..boxes.len() {
+                if boxes[i].overlaps(&boxes[j]) {
+                    want.push((i, j));
+                }
+            }
+        }
+        assert_eq!(got, want);
     }
 }

@@ -204,22 +204,13 @@ impl Outline {
         let tol = 1e-9 * self.aabb().extent();
         let tree = BoxTree::build(pieces.iter().map(|p| piece_box(p, tol)).collect());
         let mut found = None;
-        for (k, &(ei, a1, b1)) in pieces.iter().enumerate() {
-            let stop = tree.overlapping(tree.item_box(k), |m| {
-                let m = m as usize;
-                if m <= k {
-                    return false;
-                }
-                let (ej, a2, b2) = pieces[m];
-                let adjacent = ei == ej || (ei + 1) % n == ej || (ej + 1) % n == ei;
-                found = segments_cross(a1, b1, a2, b2, tol, adjacent).map(|p| (ei.min(ej), ei.max(ej), p));
-                found.is_some()
-            });
-            if stop {
-                return found;
-            }
-        }
-        None
+        tree.overlapping_pairs(|k, m| {
+            let ((ei, a1, b1), (ej, a2, b2)) = (pieces[k.min(m) as usize], pieces[k.max(m) as usize]);
+            let adjacent = ei == ej || (ei + 1) % n == ej || (ej + 1) % n == ei;
+            found = segments_cross(a1, b1, a2, b2, tol, adjacent).map(|p| (ei.min(ej), ei.max(ej), p));
+            found.is_some()
+        });
+        found
     }
 
     /// A point where the boundaries of this outline and `other` properly cross, if any: then
@@ -275,21 +266,20 @@ pub fn crossing_pairs(outlines: &[&Outline]) -> Vec<(usize, usize)> {
         pieces.extend(o.pieces(0).into_iter().map(|(_, a, b)| (k, a, b)));
     }
     let tree = BoxTree::build(pieces.iter().map(|p| piece_box(p, tol_max)).collect());
-    let mut pairs = std::collections::BTreeSet::new();
-    for (k, &(i, a1, b1)) in pieces.iter().enumerate() {
-        tree.overlapping(tree.item_box(k), |m| {
-            let (j, a2, b2) = pieces[m as usize];
-            if j <= i || pairs.contains(&(i, j)) {
-                return false;
-            }
+    let mut pairs = Vec::new();
+    tree.overlapping_pairs(|k, m| {
+        let ((i, a1, b1), (j, a2, b2)) = (pieces[k as usize], pieces[m as usize]);
+        if i != j {
             let tol = 1e-9 * boxes[i].union(&boxes[j]).extent();
             if segments_cross(a1, b1, a2, b2, tol, true).is_some() {
-                pairs.insert((i, j));
+                pairs.push((i.min(j), i.max(j)));
             }
-            false
-        });
-    }
-    pairs.into_iter().collect()
+        }
+        false
+    });
+    pairs.sort_unstable();
+    pairs.dedup();
+    pairs
 }
 
 /// The box of a piece, grown by `tol`.
