@@ -75,25 +75,31 @@ impl BoxTree {
         let items: Vec<u32> = (0..boxes.len() as u32).collect();
         let mut nodes = Vec::with_capacity(2 * boxes.len() / LEAF_SIZE + 1);
         if !boxes.is_empty() {
-            let bb = boxes.iter().fold(Aabb::EMPTY, |acc, b| acc.union(b));
-            nodes.push(Node { bb, first: 0, count: boxes.len() as u32 });
+            nodes.push(Node { bb: Aabb::EMPTY, first: 0, count: boxes.len() as u32 });
             let mut todo = vec![0usize];
             while let Some(ni) = todo.pop() {
                 let Node { first, count, .. } = nodes[ni];
-                let (first, count) = (first as usize, count as usize);
-                if count <= LEAF_SIZE {
+                if count as usize <= LEAF_SIZE {
                     continue;
                 }
                 let mid = count / 2;
                 let child = nodes.len();
-                for (start, n) in [(first, mid), (first + mid, count - mid)] {
-                    let bb = boxes[start..start + n].iter().fold(Aabb::EMPTY, |acc, b| acc.union(b));
-                    nodes.push(Node { bb, first: start as u32, count: n as u32 });
-                }
+                nodes.push(Node { bb: Aabb::EMPTY, first, count: mid });
+                nodes.push(Node { bb: Aabb::EMPTY, first: first + mid, count: count - mid });
                 nodes[ni].first = child as u32;
                 nodes[ni].count = 0;
                 todo.push(child + 1);
                 todo.push(child);
+            }
+            // Children come after their parent: boxes from the leaves up, O(n).
+            for ni in (0..nodes.len()).rev() {
+                let Node { first, count, .. } = nodes[ni];
+                let (first, count) = (first as usize, count as usize);
+                nodes[ni].bb = if count > 0 {
+                    boxes[first..first + count].iter().fold(Aabb::EMPTY, |acc, b| acc.union(b))
+                } else {
+                    nodes[first].bb.union(&nodes[first + 1].bb)
+                };
             }
         }
         Self { nodes, items, boxes }

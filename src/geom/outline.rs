@@ -132,21 +132,25 @@ impl Outline {
             let y = bb.min.y + (bb.max.y - bb.min.y) * frac;
             let origin = Vec2::new(bb.min.x - 1.0 - bb.extent(), y);
             let dir = Vec2::new(1.0, 0.0);
-            let mut ts: Vec<f64> = self
-                .edges()
-                .flat_map(|e| {
-                    let mut v = Vec::new();
-                    let mut t0 = 0.0;
-                    while let Some(h) = e.cast(origin, dir, t0, f64::INFINITY) {
-                        v.push(h.t);
-                        t0 = h.t;
-                        if v.len() > 2 {
-                            break;
-                        }
+            let mut ts: Vec<f64> = Vec::new();
+            for e in self.edges() {
+                // A straight edge wholly above or below the line cannot be met (the margin
+                // covers the end-point tolerance of the cast).
+                let margin = 1e-9 * (e.b - e.a).norm();
+                if !e.is_arc() && (e.a.y.min(e.b.y) > y + margin || e.a.y.max(e.b.y) < y - margin) {
+                    continue;
+                }
+                let mut t0 = 0.0;
+                let mut found = 0;
+                while let Some(h) = e.cast(origin, dir, t0, f64::INFINITY) {
+                    ts.push(h.t);
+                    t0 = h.t;
+                    found += 1;
+                    if found > 2 {
+                        break;
                     }
-                    v
-                })
-                .collect();
+                }
+            }
             ts.sort_by(f64::total_cmp);
             for w in ts.windows(2) {
                 let width = w[1] - w[0];
@@ -168,6 +172,11 @@ impl Outline {
     /// Checks that the outline is usable: enough finite vertices, matching bulges, non-zero
     /// area and no crossing edges (arcs are checked as fine polylines).
     pub fn validate(&self) -> Result<(), OutlineError> {
+        self.validate_with_box().map(|_| ())
+    }
+
+    /// [`Outline::validate`], giving the outline's bounding box when it is usable.
+    pub fn validate_with_box(&self) -> Result<Aabb, OutlineError> {
         let n = self.vertices.len();
         if n > MAX_VERTICES {
             return Err(OutlineError::TooManyVertices(n));
@@ -189,19 +198,19 @@ impl Outline {
         if area.abs() <= 1e-12 * bb.extent().powi(2).max(1e-300) || !area.is_finite() {
             return Err(OutlineError::ZeroArea);
         }
-        if let Some((i, j, p)) = self.first_crossing() {
+        if let Some((i, j, p)) = self.first_crossing(&bb) {
             return Err(OutlineError::SelfIntersecting(i, j, p.x, p.y));
         }
-        Ok(())
+        Ok(bb)
     }
 
     /// The first pair of non-adjacent edges that cross, with the crossing point. Arcs are
     /// replaced by polylines with a point every 2°. Pieces are found through a tree of their
     /// boxes, so the check stays near n log n however the outline is turned.
-    fn first_crossing(&self) -> Option<(usize, usize, Vec2)> {
+    fn first_crossing(&self, bb: &Aabb) -> Option<(usize, usize, Vec2)> {
         let pieces = self.pieces(0);
         let n = self.vertices.len();
-        let tol = 1e-9 * self.aabb().extent();
+        let tol = 1e-9 * bb.extent();
         // Consecutive pieces of an outline are neighbours: the tree keeps their order.
         let tree = BoxTree::build_in_order(pieces.iter().map(|p| piece_box(p, tol)).collect());
         let mut found = None;

@@ -89,7 +89,8 @@ pub enum ShapeFault {
 #[derive(Clone, Debug, PartialEq)]
 struct CheckedShape {
     shape: Shape,
-    outline: Result<Arc<Outline>, ShapeFault>,
+    /// The outline and its bounding box, if usable.
+    outline: Result<(Arc<Outline>, Aabb), ShapeFault>,
 }
 
 /// The costly geometric checks of a scene's solids (building and validating each outline,
@@ -112,7 +113,12 @@ pub struct GeometryChecks {
 impl GeometryChecks {
     /// The validated outline of the solid `id`, if the last check found it usable.
     pub fn outline(&self, id: u64) -> Option<&Arc<Outline>> {
-        self.shapes.get(&id).and_then(|c| c.outline.as_ref().ok())
+        self.shapes.get(&id).and_then(|c| c.outline.as_ref().ok()).map(|(o, _)| o)
+    }
+
+    /// The validated outline of the solid `id` with its bounding box.
+    pub fn outline_and_box(&self, id: u64) -> Option<(&Arc<Outline>, Aabb)> {
+        self.shapes.get(&id).and_then(|c| c.outline.as_ref().ok()).map(|(o, b)| (o, *b))
     }
 
     /// Outlines built and validated, and pairs of solids tested for crossing boundaries, by
@@ -130,7 +136,7 @@ impl GeometryChecks {
                 self.counts.0 += 1;
                 let outline = match shape.outline() {
                     Err(e) => Err(ShapeFault::Build(e)),
-                    Ok(o) => o.validate().map(|()| Arc::new(o)).map_err(ShapeFault::Outline),
+                    Ok(o) => o.validate_with_box().map(|bb| (Arc::new(o), bb)).map_err(ShapeFault::Outline),
                 };
                 CheckedShape { shape: shape.clone(), outline }
             }
@@ -208,10 +214,7 @@ pub fn validate_with(scene: &Scene, checks: &mut GeometryChecks) -> Vec<Problem>
                     Err(ShapeFault::Outline(e)) => {
                         c.error(format!("the {} is not a usable outline: {e}", solid.shape.word()));
                     }
-                    Ok(outline) => {
-                        let bb = outline.aabb();
-                        usable.push((o.id, o.name.as_str(), Arc::clone(outline), bb));
-                    }
+                    Ok((outline, bb)) => usable.push((o.id, o.name.as_str(), Arc::clone(outline), *bb)),
                 }
             }
             ObjectKind::Mirror(m) => {
@@ -323,7 +326,7 @@ fn overlaps(c: &mut Collector, solids: &[(u64, &str, Arc<Outline>, Aabb)], check
                 }
             }
         }
-    } else {
+    } else if solids.len() > 1 {
         let outlines: Vec<&Outline> = solids.iter().map(|s| s.2.as_ref()).collect();
         for (a, b) in crossing_pairs(&outlines) {
             checks.counts.1 += 1;

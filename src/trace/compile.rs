@@ -287,7 +287,9 @@ impl Compiled {
             };
             match &o.kind {
                 ObjectKind::Solid(s) => {
-                    let (Some(outline), Some(material)) = (checks.outline(o.id), scene.material(&s.material)) else {
+                    let (Some((outline, bbox)), Some(material)) =
+                        (checks.outline_and_box(o.id), scene.material(&s.material))
+                    else {
                         continue;
                     };
                     let k = solids.len() as u32;
@@ -301,7 +303,7 @@ impl Compiled {
                             SolidInfo {
                                 object: oi32,
                                 orient: if area >= 0.0 { 1.0 } else { -1.0 },
-                                bbox: outline.aabb(),
+                                bbox,
                                 area: area.abs(),
                                 interior: outline.interior_point(),
                                 outline: Arc::clone(outline),
