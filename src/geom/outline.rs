@@ -204,6 +204,77 @@ impl Outline {
         Ok(bb)
     }
 
+    /// Validates this outline knowing that `before` (with bounding box `before_box`) was
+    /// valid and that this one came from it by moving a few vertices or bending a few
+    /// edges: only pairs involving a changed edge can cross now, so only those are tested,
+    /// in O(n) rather than a full check. Returns the bounding box if the outline is surely
+    /// valid; `None` when this shortcut does not apply (another vertex count, many changed
+    /// edges, another bounding box, which changes the tolerance) or finds a fault, so the
+    /// caller runs [`Outline::validate`] (which also words the fault the same way).
+    pub fn validate_edited(&self, before: &Outline, before_box: &Aabb) -> Option<Aabb> {
+        const MOST_CHANGED: usize = 8;
+        let n = self.vertices.len();
+        if n != before.vertices.len() || self.bulges.len() != n || before.bulges.len() != n || n < 3 {
+            return None;
+        }
+        let mut changed = Vec::new();
+        for i in 0..n {
+            let j = (i + 1) % n;
+            if self.vertices[i] != before.vertices[i]
+                || self.vertices[j] != before.vertices[j]
+                || self.bulges[i] != before.bulges[i]
+            {
+                if changed.len() == MOST_CHANGED
+                    || !(super::is_finite(self.vertices[i]) && super::is_finite(self.vertices[j]))
+                    || !self.bulges[i].is_finite()
+                {
+                    return None;
+                }
+                changed.push(i);
+            }
+        }
+        let bb = self.aabb();
+        if bb != *before_box {
+            return None;
+        }
+        let area = self.signed_area();
+        if area.abs() <= 1e-12 * bb.extent().powi(2).max(1e-300) || !area.is_finite() {
+            return None;
+        }
+        let tol = 1e-9 * bb.extent();
+        let mut mine = Vec::new();
+        for &i in &changed {
+            let e = self.edge(i);
+            for w in e.polyline(2f64.to_radians()).windows(2) {
+                mine.push((i, w[0], w[1]));
+            }
+        }
+        let reach = mine.iter().fold(Aabb::EMPTY, |acc, p| acc.union(&piece_box(p, tol)));
+        let mut theirs = Vec::new();
+        for (k, e) in self.edges().enumerate() {
+            if !e.aabb().expanded(tol).overlaps(&reach) {
+                continue;
+            }
+            theirs.clear();
+            if e.is_arc() {
+                theirs.extend(e.polyline(2f64.to_radians()).windows(2).map(|w| (w[0], w[1])));
+            } else {
+                theirs.push((e.a, e.b));
+            }
+            for &(ei, a1, b1) in &mine {
+                let adjacent = ei == k || (ei + 1) % n == k || (k + 1) % n == ei;
+                let bi = piece_box(&(ei, a1, b1), tol);
+                for &(a2, b2) in &theirs {
+                    if bi.overlaps(&piece_box(&(k, a2, b2), tol)) && segments_cross(a1, b1, a2, b2, tol, adjacent).is_some()
+                    {
+                        return None;
+                    }
+                }
+            }
+        }
+        Some(bb)
+    }
+
     /// The first pair of non-adjacent edges that cross, with the crossing point. Arcs are
     /// replaced by polylines with a point every 2°. Pieces are found through a tree of their
     /// boxes, so the check stays near n log n however the outline is turned.
@@ -411,6 +482,27 @@ mod tests {
         assert!(a.crossing_with(&at(1.0, 1.0, 2.0)).is_some(), "overlapping corners");
         let ball = Outline { vertices: vec![Vec2::new(1.3, 2.2), Vec2::new(3.3, 2.2)], bulges: vec![1.0, 1.0] };
         assert!(a.crossing_with(&ball).is_some(), "a circle over a corner");
+    }
+
+    #[test]
+    fn an_edited_outline_is_checked_where_it_moved() {
+        // A comb of teeth; move one tooth's tip through the next tooth, then a little.
+        let mut v = vec![Vec2::new(0.0, 0.0)];
+        for k in 0..50 {
+            let x = k as f64;
+            v.extend([Vec2::new(x + 0.2, 0.0), Vec2::new(x + 0.5, -1.0), Vec2::new(x + 0.8, 0.0)]);
+        }
+        v.extend([Vec2::new(51.0, 0.0), Vec2::new(51.0, 2.0), Vec2::new(0.0, 2.0)]);
+        let comb = Outline::polygon(v);
+        let bb = comb.validate_with_box().expect("valid comb");
+        let mut moved = comb.clone();
+        moved.vertices[2 + 3 * 10].x += 2.0; // tip of tooth 10 across tooth 11
+        assert!(moved.validate().is_err());
+        assert_eq!(moved.validate_edited(&comb, &bb), None);
+        let mut nudged = comb.clone();
+        nudged.vertices[2 + 3 * 10].x += 0.05;
+        assert_eq!(nudged.validate_edited(&comb, &bb), Some(bb));
+        assert!(nudged.validate().is_ok());
     }
 
     #[test]

@@ -132,11 +132,18 @@ impl GeometryChecks {
     fn check_shape(&mut self, old: &mut HashMap<u64, CheckedShape>, id: u64, shape: &Shape) -> &CheckedShape {
         let entry = match old.remove(&id) {
             Some(c) if c.shape == *shape => c,
-            _ => {
+            before => {
                 self.counts.0 += 1;
                 let outline = match shape.outline() {
                     Err(e) => Err(ShapeFault::Build(e)),
-                    Ok(o) => o.validate_with_box().map(|bb| (Arc::new(o), bb)).map_err(ShapeFault::Outline),
+                    Ok(o) => {
+                        // A valid outline moved at a few vertices: test only the edges that moved.
+                        let before = before.as_ref().and_then(|c| c.outline.as_ref().ok());
+                        match before.and_then(|(b, bb)| o.validate_edited(b, bb)) {
+                            Some(bb) => Ok((Arc::new(o), bb)),
+                            None => o.validate_with_box().map(|bb| (Arc::new(o), bb)).map_err(ShapeFault::Outline),
+                        }
+                    }
                 };
                 CheckedShape { shape: shape.clone(), outline }
             }

@@ -270,8 +270,8 @@ impl Compiled {
         let ambient = scene.material(&scene.ambient).unwrap_or_else(|| crate::optics::Material::constant("air", 1.0));
         let wavelengths = crate::scene::validate::source_wavelengths(scene);
         let mut media = vec![ambient];
-        let mut edges = Vec::new();
-        let mut solids = Vec::new();
+        let mut edges = Vec::with_capacity(prev_edges.as_ref().map_or(0, Vec::len));
+        let mut solids = Vec::with_capacity(prev_solids.len());
         let mut detectors = Vec::new();
         for (oi, o) in scene.objects.iter().enumerate() {
             if bad.binary_search(&o.id).is_ok() {
