@@ -12,10 +12,17 @@ use raydraft::trace::Compiled;
 
 const EDGES: [usize; 3] = [1_000, 10_000, 100_000];
 
+/// Makes a scene of about this many edges.
+type MakeScene = fn(usize) -> Scene;
+
 fn push(s: &mut Scene, shape: Shape) {
     // Pushed directly: `Scene::add` looks for a free id among all objects each time.
     let id = s.objects.len() as u64 + 1;
-    s.objects.push(Object { id, name: format!("solid {id}"), kind: ObjectKind::Solid(Solid { shape, material: "pmma".into() }) });
+    s.objects.push(Object {
+        id,
+        name: format!("solid {id}"),
+        kind: ObjectKind::Solid(Solid { shape, material: "pmma".into() }),
+    });
 }
 
 fn square(c: (f64, f64), w: f64) -> Shape {
@@ -66,7 +73,7 @@ fn separate_squares(edges: usize) -> Scene {
 }
 
 fn scaling(c: &mut Criterion) {
-    let cases: [(&str, fn(usize) -> Scene); 3] =
+    let cases: [(&str, MakeScene); 3] =
         [("upright_plate", upright_plate), ("nested_squares", nested_squares), ("separate_squares", separate_squares)];
     for (name, make) in cases {
         let mut g = c.benchmark_group(format!("scaling/{name}"));
@@ -82,7 +89,9 @@ fn scaling(c: &mut Criterion) {
             let n_edges = compiled.edges().len();
             assert!(n_edges.abs_diff(edges) < 8, "{name}: {n_edges} edges");
             g.throughput(Throughput::Elements(n_edges as u64));
-            g.bench_with_input(BenchmarkId::from_parameter(edges), &scene, |b, s| b.iter(|| Compiled::new(black_box(s))));
+            g.bench_with_input(BenchmarkId::from_parameter(edges), &scene, |b, s| {
+                b.iter(|| Compiled::new(black_box(s)));
+            });
         }
         g.finish();
     }

@@ -81,7 +81,7 @@ fn nested_rectangles_touching_and_overlapping_are_told_apart() {
     let mut s = scene();
     // 500 nested squares, then two side by side touching along a face, then one overlapping.
     for k in 0..500 {
-        let w = 2.0 * (k + 1) as f64;
+        let w = 2.0 * f64::from(k + 1);
         solid(&mut s, &format!("square {k}"), rect(0.0, 0.0, w, w), 1.4);
     }
     solid(&mut s, "left", rect(2000.0, 0.0, 10.0, 10.0), 1.5);
@@ -111,7 +111,7 @@ fn twenty_thousand_separate_squares_check_clean() {
                 id,
                 name: format!("sq{i}-{j}"),
                 kind: raydraft::scene::ObjectKind::Solid(raydraft::scene::Solid {
-                    shape: rect(2.0 * i as f64, 2.0 * j as f64, 1.0, 1.0),
+                    shape: rect(2.0 * f64::from(i), 2.0 * f64::from(j), 1.0, 1.0),
                     material: material.clone(),
                 }),
             });

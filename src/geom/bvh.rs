@@ -198,9 +198,8 @@ impl Bvh {
                 _ => runs.push((i as u32, 1)),
             }
         }
-        let run_box = |r: &(u32, u32)| {
-            boxes[r.0 as usize..(r.0 + r.1) as usize].iter().fold(Aabb::EMPTY, |acc, b| acc.union(b))
-        };
+        let run_box =
+            |r: &(u32, u32)| boxes[r.0 as usize..(r.0 + r.1) as usize].iter().fold(Aabb::EMPTY, |acc, b| acc.union(b));
         let run_boxes: Vec<Aabb> = runs.iter().map(run_box).collect();
         let centers: Vec<Vec2> = run_boxes.iter().map(Aabb::center).collect();
         let mut ridx: Vec<u32> = (0..runs.len() as u32).collect();
@@ -236,7 +235,9 @@ impl Bvh {
                 let mid = count / 2;
                 let child = nodes.len() as u32;
                 for (a, n) in [(first, mid), (first + mid, count - mid)] {
-                    let bb = idx[a as usize..(a + n) as usize].iter().fold(Aabb::EMPTY, |acc, &i| acc.union(&boxes[i as usize]));
+                    let bb = idx[a as usize..(a + n) as usize]
+                        .iter()
+                        .fold(Aabb::EMPTY, |acc, &i| acc.union(&boxes[i as usize]));
                     nodes.push(Node { bb, first: a, count: n });
                 }
                 nodes[k].first = child;
@@ -614,7 +615,7 @@ mod tests {
     #[test]
     fn refit_follows_moved_edges() {
         let mut edges: Vec<Edge> =
-            (0..40).map(|i| Edge::segment(Vec2::new(i as f64, 0.0), Vec2::new(i as f64 + 1.0, 0.0))).collect();
+            (0..40).map(|i| Edge::segment(Vec2::new(f64::from(i), 0.0), Vec2::new(f64::from(i) + 1.0, 0.0))).collect();
         let mut bvh = Bvh::build(&edges);
         edges[17].a.y = 3.0;
         assert!(bvh.refit(&edges));

@@ -265,7 +265,8 @@ impl Outline {
                 let adjacent = ei == k || (ei + 1) % n == k || (k + 1) % n == ei;
                 let bi = piece_box(&(ei, a1, b1), tol);
                 for &(a2, b2) in &theirs {
-                    if bi.overlaps(&piece_box(&(k, a2, b2), tol)) && segments_cross(a1, b1, a2, b2, tol, adjacent).is_some()
+                    if bi.overlaps(&piece_box(&(k, a2, b2), tol))
+                        && segments_cross(a1, b1, a2, b2, tol, adjacent).is_some()
                     {
                         return None;
                     }
@@ -489,7 +490,7 @@ mod tests {
         // A comb of teeth; move one tooth's tip through the next tooth, then a little.
         let mut v = vec![Vec2::new(0.0, 0.0)];
         for k in 0..50 {
-            let x = k as f64;
+            let x = f64::from(k);
             v.extend([Vec2::new(x + 0.2, 0.0), Vec2::new(x + 0.5, -1.0), Vec2::new(x + 0.8, 0.0)]);
         }
         v.extend([Vec2::new(51.0, 0.0), Vec2::new(51.0, 2.0), Vec2::new(0.0, 2.0)]);

@@ -4,10 +4,10 @@ use std::collections::{HashMap, HashSet};
 use std::fmt;
 use std::sync::Arc;
 
+use super::Shape;
 use super::{
     Emission, MAX_DETECTOR_BINS, MAX_RAYS_PER_SOURCE, MAX_SPECTRUM_LINES, ObjectKind, Path, SCENE_VERSION, Scene,
 };
-use super::Shape;
 use crate::geom::{Aabb, Outline, OutlineError, Vec2, crossing_pairs};
 use crate::optics::material::Dispersion;
 
@@ -299,8 +299,7 @@ pub fn validate_with(scene: &Scene, checks: &mut GeometryChecks) -> Vec<Problem>
 /// the earlier solid first, so both ways give the same warnings.
 fn overlaps(c: &mut Collector, solids: &[(u64, &str, Arc<Outline>, Aabb)], checks: &mut GeometryChecks) {
     let before: HashMap<u64, &Arc<Outline>> = checks.last_usable.iter().map(|(id, o)| (*id, o)).collect();
-    let changed: Vec<bool> =
-        solids.iter().map(|s| before.get(&s.0).is_none_or(|o| !Arc::ptr_eq(o, &s.2))).collect();
+    let changed: Vec<bool> = solids.iter().map(|s| before.get(&s.0).is_none_or(|o| !Arc::ptr_eq(o, &s.2))).collect();
     let n_changed = changed.iter().filter(|&&x| x).count();
     let position: HashMap<u64, usize> = solids.iter().enumerate().map(|(i, s)| (s.0, i)).collect();
     let mut pairs: Vec<(usize, usize)> = Vec::new();

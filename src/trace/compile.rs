@@ -349,22 +349,19 @@ impl Compiled {
         }
         let solid_boxes = BoxTree::build(solids.iter().map(|s| s.bbox).collect());
         let bvh_edges: Vec<Edge> = edges.iter().map(|e| e.edge).collect();
-        let bvh = match (prev_edges, prev_bvh) {
-            (Some(old), Some(bvh)) if old.len() == edges.len() && old.iter().zip(&edges).all(|(a, b)| a.edge == b.edge) => {
-                bvh
-            }
-            (Some(old), Some(mut bvh)) if old.len() == edges.len() => {
-                if bvh.refit(&bvh_edges) {
+        let same_count = prev_edges.as_ref().is_some_and(|old| old.len() == edges.len());
+        let unchanged =
+            same_count && prev_edges.as_ref().is_some_and(|old| old.iter().zip(&edges).all(|(a, b)| a.edge == b.edge));
+        let bvh = match prev_bvh {
+            Some(bvh) if unchanged => bvh,
+            mut prev => {
+                if same_count && prev.as_mut().is_some_and(|b| b.refit(&bvh_edges)) {
                     report.bvh = BvhUpdate::Refitted;
-                    bvh
+                    prev.unwrap_or_default()
                 } else {
                     report.bvh = BvhUpdate::Rebuilt;
                     Bvh::build(&bvh_edges)
                 }
-            }
-            _ => {
-                report.bvh = BvhUpdate::Rebuilt;
-                Bvh::build(&bvh_edges)
             }
         };
         let mut bounds = bvh.bounds();
@@ -643,9 +640,9 @@ impl ContainerTree {
                 count: items.len(),
             };
             for &i in items {
-                for a in 0..4 {
-                    node.lo[a] = node.lo[a].min(corners[i][a]);
-                    node.hi[a] = node.hi[a].max(corners[i][a]);
+                for (a, &c) in corners[i].iter().enumerate() {
+                    node.lo[a] = node.lo[a].min(c);
+                    node.hi[a] = node.hi[a].max(c);
                 }
                 node.min_area = node.min_area.min(areas[i]);
             }
@@ -662,8 +659,9 @@ impl ContainerTree {
                 let spread = |a: usize| nodes[ni].hi[a] - nodes[ni].lo[a];
                 let axis = (0..4).max_by(|&a, &b| spread(a).total_cmp(&spread(b))).unwrap_or(0);
                 let mid = count / 2;
-                items[first..first + count]
-                    .select_nth_unstable_by(mid, |&a, &b| corners[a][axis].total_cmp(&corners[b][axis]).then(a.cmp(&b)));
+                items[first..first + count].select_nth_unstable_by(mid, |&a, &b| {
+                    corners[a][axis].total_cmp(&corners[b][axis]).then(a.cmp(&b))
+                });
                 let child = nodes.len();
                 nodes.push(summary(&items[first..first + mid], first));
                 nodes.push(summary(&items[first + mid..first + count], first + mid));

@@ -377,7 +377,8 @@ fn pool_of(threads: usize) -> Option<std::sync::Arc<rayon::ThreadPool>> {
     use std::sync::{Arc, Mutex, OnceLock};
     static POOLS: OnceLock<Mutex<HashMap<usize, Arc<rayon::ThreadPool>>>> = OnceLock::new();
     let threads = threads.max(1);
-    let mut pools = POOLS.get_or_init(|| Mutex::new(HashMap::new())).lock().unwrap_or_else(std::sync::PoisonError::into_inner);
+    let mut pools =
+        POOLS.get_or_init(|| Mutex::new(HashMap::new())).lock().unwrap_or_else(std::sync::PoisonError::into_inner);
     if let Some(p) = pools.get(&threads) {
         return Some(Arc::clone(p));
     }
