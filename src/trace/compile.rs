@@ -47,7 +47,8 @@ pub struct SolidInfo {
     pub object: u32,
     /// Shared with the validation that checked it, and with later revisions while unchanged.
     pub outline: Arc<Outline>,
-    /// A point strictly inside the outline, if one was found.
+    /// A point strictly inside the outline, if one was found (looked for only when there
+    /// are solids to nest).
     pub interior: Option<Vec2>,
     /// +1 if the outline runs counter-clockwise (outward = right normal), −1 otherwise.
     pub orient: f64,
@@ -305,7 +306,8 @@ impl Compiled {
                                 orient: if area >= 0.0 { 1.0 } else { -1.0 },
                                 bbox,
                                 area: area.abs(),
-                                interior: outline.interior_point(),
+                                // Found by `nest` when there is another solid to nest with.
+                                interior: None,
                                 outline: Arc::clone(outline),
                                 parent: None,
                                 depth: 0,
@@ -569,6 +571,12 @@ fn source_points(kind: &ObjectKind) -> Vec<(f64, f64)> {
 /// n log n in the number of solids however deep they nest.
 fn nest(solids: &mut [SolidInfo]) {
     let n = solids.len();
+    if n < 2 {
+        return;
+    }
+    for s in solids.iter_mut().filter(|s| s.interior.is_none()) {
+        s.interior = s.outline.interior_point();
+    }
     let tol = 1e-9 * solids.iter().map(|s| s.bbox.extent()).fold(0.0, f64::max);
     let tree = ContainerTree::build(solids);
     for k in 0..n {
