@@ -343,29 +343,20 @@ pub fn crossing_pairs(outlines: &[&Outline]) -> Vec<(usize, usize)> {
     let boxes: Vec<Aabb> = outlines.iter().map(|o| o.aabb()).collect();
     let all = boxes.iter().fold(Aabb::EMPTY, |acc, b| acc.union(b));
     let tol_max = 1e-9 * all.extent();
-    // Only outlines whose boxes meet another's can cross anything.
-    let solid_tree = BoxTree::build(boxes.iter().map(|b| b.expanded(tol_max)).collect());
-    let mut meets = vec![false; outlines.len()];
-    solid_tree.overlapping_pairs(|i, j| {
-        meets[i as usize] = true;
-        meets[j as usize] = true;
-        false
-    });
-    // Pieces outline by outline, the outlines in the order of their boxes along a Z curve,
-    // so that neighbours in the list are mostly neighbours in the plane.
-    let mut order: Vec<usize> = (0..outlines.len()).filter(|&k| meets[k]).collect();
-    let z = |k: usize| {
-        let c = boxes[k].center();
-        let s = all.size();
-        let cell = |v: f64, lo: f64, ext: f64| if ext > 0.0 { ((v - lo) / ext * 65535.0) as u32 } else { 0 };
-        morton(cell(c.x, all.min.x, s.x), cell(c.y, all.min.y, s.y))
-    };
-    order.sort_by_cached_key(|&k| (z(k), k));
+    // Only outlines whose boxes meet another's can cross anything. (One query each that
+    // stops at the first other box: listing every meeting pair would be quadratic for
+    // nested outlines, whose boxes all meet.)
+    let grown: Vec<Aabb> = boxes.iter().map(|b| b.expanded(tol_max)).collect();
+    let solid_tree = BoxTree::build(grown.clone());
     let mut pieces = Vec::new();
-    for &k in &order {
-        pieces.extend(outlines[k].pieces(0).into_iter().map(|(_, a, b)| (k, a, b)));
+    for (k, o) in outlines.iter().enumerate() {
+        if solid_tree.overlapping(&grown[k], |j| j as usize != k) {
+            pieces.extend(o.pieces(0).into_iter().map(|(_, a, b)| (k, a, b)));
+        }
     }
-    let tree = BoxTree::build_in_order(pieces.iter().map(|p| piece_box(p, tol_max)).collect());
+    // Split by position, not in outline order: the pieces of nested outlines must be told
+    // apart by where they lie, since the outlines' own boxes all overlap.
+    let tree = BoxTree::build(pieces.iter().map(|p| piece_box(p, tol_max)).collect());
     let mut pairs = Vec::new();
     tree.overlapping_pairs(|k, m| {
         let ((i, a1, b1), (j, a2, b2)) = (pieces[k as usize], pieces[m as usize]);
@@ -380,18 +371,6 @@ pub fn crossing_pairs(outlines: &[&Outline]) -> Vec<(usize, usize)> {
     pairs.sort_unstable();
     pairs.dedup();
     pairs
-}
-
-/// Interleaves the bits of two 16-bit cell numbers (a Z-order curve key).
-fn morton(x: u32, y: u32) -> u64 {
-    let spread = |v: u32| {
-        let mut v = u64::from(v & 0xffff);
-        v = (v | (v << 8)) & 0x00ff_00ff;
-        v = (v | (v << 4)) & 0x0f0f_0f0f;
-        v = (v | (v << 2)) & 0x3333_3333;
-        (v | (v << 1)) & 0x5555_5555
-    };
-    spread(x) | (spread(y) << 1)
 }
 
 /// The box of a piece, grown by `tol`.

@@ -597,17 +597,14 @@ fn nest(solids: &mut [SolidInfo]) {
         }
         solids[k].parent = parent.map(|j| j as u32);
     }
-    for k in 0..n {
-        let mut d = 0;
-        let mut cur = solids[k].parent;
-        while let Some(c) = cur {
-            d += 1;
-            if d > n {
-                break;
-            }
-            cur = solids[c as usize].parent;
-        }
-        solids[k].depth = d as u32;
+    // A parent has a larger area than its child, or the same area and a smaller index, so
+    // going through the solids by decreasing area (increasing index on ties) each parent's
+    // depth is known before its children's: O(n log n) rather than walking every chain of
+    // ancestors.
+    let mut order: Vec<usize> = (0..n).collect();
+    order.sort_by(|&a, &b| solids[b].area.total_cmp(&solids[a].area).then(a.cmp(&b)));
+    for k in order {
+        solids[k].depth = solids[k].parent.map_or(0, |p| solids[p as usize].depth + 1);
     }
 }
 
