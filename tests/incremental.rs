@@ -197,3 +197,22 @@ fn an_update_redoes_only_what_changed() {
     let r = c.update(&s);
     assert_eq!((r.outlines_checked, r.bvh), (0, BvhUpdate::Rebuilt));
 }
+
+#[test]
+fn a_background_job_traces_a_shared_compiled_scene() {
+    let mut s = scene();
+    solid(&mut s, "block", rect(0.0, 0.0, 10.0, 4.0), 1.5);
+    point(&mut s, (-8.0, 0.5), -20.0, 20.0, 16);
+    let mut compiled = std::sync::Arc::new(Compiled::new(&s));
+    let mut cfg = TraceConfig::from_scene(&s);
+    cfg.threads = Some(1);
+    let held = raydraft::trace::TraceJob::start_compiled(s.clone(), std::sync::Arc::clone(&compiled), cfg.clone());
+    // Edit while the job may still hold the compiled scene: `make_mut` copies it then.
+    let ObjectKind::Solid(block) = &mut s.objects[0].kind else { panic!("a solid") };
+    block.shape = rect(0.0, 0.0, 10.0, 5.0);
+    std::sync::Arc::make_mut(&mut compiled).update(&s);
+    let job = raydraft::trace::TraceJob::start_compiled(s.clone(), std::sync::Arc::clone(&compiled), cfg.clone());
+    let t = job.wait().expect("trace");
+    assert_same(&t, &trace_compiled(&s, &Compiled::new(&s), &cfg, &Control::new()), "background job");
+    assert!(held.wait().is_some());
+}
