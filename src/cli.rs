@@ -229,7 +229,7 @@ fn trace(args: &TraceArgs) -> Result<ExitCode, Failure> {
     config.rays = args.rays;
     config.threads = args.threads;
     let started = Instant::now();
-    let compiled = Compiled::new(scene);
+    let compiled = Compiled::with_checks(scene, loaded.checks.clone());
     let control = Arc::new(Control::new());
     let stop = Arc::clone(&control);
     // Ctrl+C asks the trace to stop and keep what it has; a second one ends the program. If

@@ -248,7 +248,7 @@ fn check_and_trace_agree_on_an_unusable_index() {
         // The trace uses the same validation: the prism is left out instead of traced as air.
         let scene: Scene = ron::from_str(&text).expect("parse");
         let compiled = raydraft::trace::Compiled::new(&scene);
-        assert_eq!(compiled.excluded, vec![1], "{nm}");
+        assert_eq!(compiled.excluded(), &[1], "{nm}");
     }
 }
 

@@ -6,6 +6,7 @@
 //! outward for a counter-clockwise outline. Nothing here knows about optics.
 
 mod aabb;
+mod boxtree;
 mod bvh;
 mod edge;
 mod outline;
@@ -14,9 +15,10 @@ mod ray_arc;
 mod ray_segment;
 
 pub use aabb::Aabb;
+pub use boxtree::BoxTree;
 pub use bvh::{Bvh, BvhHit};
 pub use edge::{ArcGeom, Edge, EdgeHit};
-pub use outline::{Outline, OutlineError};
+pub use outline::{Outline, OutlineError, crossing_pairs};
 pub use point_edge::{EdgeProjection, project_point_on_edge};
 pub use ray_arc::{ArcRay, ray_arc};
 pub use ray_segment::{ray_segment, right_normal};

@@ -22,7 +22,7 @@ use std::path::{Path, PathBuf};
 use serde::Deserialize;
 
 use super::validate::{Severity, shorten, shorten_words};
-use super::{Problem, SCENE_VERSION, Scene, validate};
+use super::{Problem, SCENE_VERSION, Scene, validate_with};
 
 /// A scene read from a file, with the warnings found while checking it.
 #[derive(Clone, Debug, PartialEq)]
@@ -30,6 +30,9 @@ pub struct Loaded {
     pub scene: Scene,
     /// Problems that do not stop a trace but may make a result mislead.
     pub warnings: Vec<Problem>,
+    /// The geometric checks made while loading; hand them to
+    /// [`crate::trace::Compiled::with_checks`] so the outlines are not validated again.
+    pub checks: super::validate::GeometryChecks,
 }
 
 /// Why a scene file could not be loaded. Every message starts with the file (and the line
@@ -172,12 +175,13 @@ pub fn from_str(text: &str, path_for_messages: &str) -> Result<Loaded, LoadError
     };
     // A hand-edited file may carry a next id at or below an id in use; never hand it out twice.
     scene.fix_next_id();
-    let mut problems = validate(&scene);
+    let mut checks = super::validate::GeometryChecks::default();
+    let mut problems = validate_with(&scene, &mut checks);
     locate(&mut problems, text);
     if problems.iter().any(|p| p.severity == Severity::Error) {
         return Err(LoadError::Invalid { path, problems });
     }
-    Ok(Loaded { scene, warnings: problems })
+    Ok(Loaded { scene, warnings: problems, checks })
 }
 
 /// Just the version of a scene file; every other field is skipped unread.

@@ -20,7 +20,7 @@ pub use edit::{Edit, EditError, apply};
 pub use file::{LoadError, Loaded, SaveError};
 pub use history::{Gesture, History};
 pub use shapes::Shape;
-pub use validate::{Problem, validate};
+pub use validate::{GeometryChecks, Problem, validate, validate_with};
 
 /// The version of the scene schema written by this build.
 pub const SCENE_VERSION: u32 = 2;

@@ -12,11 +12,12 @@
 
 use std::collections::{HashMap, HashSet};
 use std::fmt;
+use std::sync::Arc;
 
 use super::{
     Emission, MAX_DETECTOR_BINS, MAX_RAYS_PER_SOURCE, MAX_SPECTRUM_LINES, ObjectKind, Path, SCENE_VERSION, Scene, Shape,
 };
-use crate::geom::{Aabb, Outline, Vec2};
+use crate::geom::{Aabb, Outline, OutlineError, Vec2, crossing_pairs};
 use crate::optics::Material;
 use crate::optics::material::{Dispersion, IndexCheck, MAX_PLAUSIBLE_INDEX, MIN_PLAUSIBLE_INDEX, check_index};
 
@@ -225,8 +226,93 @@ struct Extent {
 }
 
 /// Every problem of the scene, errors first in object order, then warnings.
-#[allow(clippy::too_many_lines)] // one arm per object kind
 pub fn validate(scene: &Scene) -> Vec<Problem> {
+    validate_with(scene, &mut GeometryChecks::default())
+}
+
+/// Why a solid's shape gives no usable outline.
+#[derive(Clone, Debug, PartialEq)]
+pub enum ShapeFault {
+    /// The primitive's parameters cannot make an outline (the message says why).
+    Build(String),
+    /// The outline was built but cannot be traced (crossing edges, zero area, ...).
+    Outline(OutlineError),
+}
+
+/// A solid's shape as last checked, and the outcome.
+#[derive(Clone, Debug, PartialEq)]
+struct CheckedShape {
+    shape: Shape,
+    /// The outline and its bounding box, if usable.
+    outline: Result<(Arc<Outline>, Aabb), ShapeFault>,
+}
+
+/// The costly geometric checks of a scene's solids (building and validating each outline,
+/// finding pairs of solids whose boundaries cross), kept from one revision of a scene to the
+/// next so that [`validate_with`] checks again only what changed: a shape equal to the one
+/// checked before under the same object id keeps its outline and verdict, and only pairs
+/// involving a changed solid are tested again. A default value knows nothing yet.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct GeometryChecks {
+    shapes: HashMap<u64, CheckedShape>,
+    /// Usable solids of the last check, in scene order.
+    last_usable: Vec<(u64, Arc<Outline>)>,
+    /// Pairs of solids found crossing by the last check: ids (the earlier in scene order
+    /// first) and a crossing point.
+    last_pairs: Vec<(u64, u64, Vec2)>,
+    /// What the last check did: outlines validated, solid pairs tested.
+    counts: (usize, usize),
+}
+
+impl GeometryChecks {
+    /// The validated outline of the solid `id`, if the last check found it usable.
+    pub fn outline(&self, id: u64) -> Option<&Arc<Outline>> {
+        self.shapes.get(&id).and_then(|c| c.outline.as_ref().ok()).map(|(o, _)| o)
+    }
+
+    /// The validated outline of the solid `id` with its bounding box.
+    pub fn outline_and_box(&self, id: u64) -> Option<(&Arc<Outline>, Aabb)> {
+        self.shapes.get(&id).and_then(|c| c.outline.as_ref().ok()).map(|(o, b)| (o, *b))
+    }
+
+    /// Outlines built and validated, and pairs of solids tested for crossing boundaries, by
+    /// the last check (for tests and benchmarks of the incremental path).
+    pub fn last_counts(&self) -> (usize, usize) {
+        self.counts
+    }
+
+    /// The outline of `shape` for object `id` and whether it is usable, from the previous
+    /// check if the shape is unchanged.
+    fn check_shape(&mut self, old: &mut HashMap<u64, CheckedShape>, id: u64, shape: &Shape) -> &CheckedShape {
+        let entry = match old.remove(&id) {
+            Some(c) if c.shape == *shape => c,
+            before => {
+                self.counts.0 += 1;
+                let outline = match shape.outline() {
+                    Err(e) => Err(ShapeFault::Build(e)),
+                    Ok(o) => {
+                        // A valid outline moved at a few vertices: test only the edges that moved.
+                        let before = before.as_ref().and_then(|c| c.outline.as_ref().ok());
+                        match before.and_then(|(b, bb)| o.validate_edited(b, bb)) {
+                            Some(bb) => Ok((Arc::new(o), bb)),
+                            None => o.validate_with_box().map(|bb| (Arc::new(o), bb)).map_err(ShapeFault::Outline),
+                        }
+                    }
+                };
+                CheckedShape { shape: shape.clone(), outline }
+            }
+        };
+        self.shapes.entry(id).insert_entry(entry).into_mut()
+    }
+}
+
+/// [`validate`], reusing and updating the geometric checks kept in `checks` from an
+/// earlier revision of the scene (see [`GeometryChecks`]). Gives exactly what [`validate`]
+/// gives.
+#[allow(clippy::too_many_lines)] // one arm per object kind
+pub fn validate_with(scene: &Scene, checks: &mut GeometryChecks) -> Vec<Problem> {
+    let mut old_shapes = std::mem::take(&mut checks.shapes);
+    checks.counts = (0, 0);
     let mut c = Collector { problems: Vec::new(), current: None };
     if scene.version == 0 || scene.version > SCENE_VERSION {
         c.err(
@@ -276,8 +362,10 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
     }
     let mut ids = HashSet::new();
     let mut object_names = HashSet::new();
+    // Once, not once per solid: a scene of many solids would check in quadratic time.
+    let wavelengths = source_wavelengths(scene);
     // Usable solid outlines, for the overlap check at the end.
-    let mut usable: Vec<(u64, &str, Outline, Aabb)> = Vec::new();
+    let mut usable: Vec<(u64, &str, Arc<Outline>, Aabb)> = Vec::new();
     // Where each object lies, for the range and size checks, and each usable solid's outline
     // key, for the duplicate check.
     let mut extents: Vec<Extent> = Vec::new();
@@ -321,21 +409,20 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
                 if let Shape::Outline { bulges, .. } = &solid.shape {
                     check_bulges(&mut c, "shape.bulges", bulges);
                 }
-                match solid.shape.outline() {
-                    Err(e) => c.err(&shape_field(&e), format!("the {} cannot be built: {e}", solid.shape.word()), ""),
-                    // Out of range, rounding spoils the outline checks; the range check says why.
-                    Ok(outline) if !(reach(&outline.aabb()) <= MAX_COORDINATE_MM) => extent(outline.aabb(), true),
-                    Ok(outline) => match outline.validate() {
-                        Err(e) => {
-                            c.err("shape", format!("the {} is not a usable outline: {e}", solid.shape.word()), "");
-                        }
-                        Ok(()) => {
-                            let bb = outline.aabb();
-                            extent(bb, true);
-                            outline_keys.push((o.id, o.name.as_str(), solid.material.as_str(), outline_key(&outline)));
-                            usable.push((o.id, o.name.as_str(), outline, bb));
-                        }
+                match &checks.check_shape(&mut old_shapes, o.id, &solid.shape).outline {
+                    Err(ShapeFault::Build(e)) => {
+                        c.err(&shape_field(e), format!("the {} cannot be built: {e}", solid.shape.word()), "");
+                    }
+                    Err(ShapeFault::Outline(e)) => match solid.shape.outline() {
+                        // Out of range, rounding spoils the outline checks; the range check says why.
+                        Ok(outline) if !(reach(&outline.aabb()) <= MAX_COORDINATE_MM) => extent(outline.aabb(), true),
+                        _ => c.err("shape", format!("the {} is not a usable outline: {e}", solid.shape.word()), ""),
                     },
+                    Ok((outline, bb)) => {
+                        extent(*bb, true);
+                        outline_keys.push((o.id, o.name.as_str(), solid.material.as_str(), outline_key(outline)));
+                        usable.push((o.id, o.name.as_str(), Arc::clone(outline), *bb));
+                    }
                 }
             }
             ObjectKind::Mirror(m) => {
@@ -415,7 +502,7 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
     }
     ranges_and_sizes(&mut c, &extents);
     duplicates(&mut c, &mut outline_keys);
-    overlaps(&mut c, &usable);
+    overlaps(&mut c, &usable, checks);
     if !scene.objects.iter().any(|o| o.kind.is_source()) {
         c.warning("the scene has no light source");
     }
@@ -469,12 +556,15 @@ fn ranges_and_sizes(c: &mut Collector, extents: &[Extent]) {
 
 /// A solid's outline with its vertices and bulges rounded to about a billionth of its own
 /// size and started at its smallest vertex, so equal outlines give equal keys.
-type OutlineKey = Vec<(i64, i64, i64)>;
+/// The rounding step (as a power of two) and the rounded vertices and bulges.
+type OutlineKey = (i32, Vec<(i64, i64, i64)>);
 
 fn outline_key(o: &Outline) -> OutlineKey {
-    // A power of two, so that outlines of nearly the same size share it and scaled copies
-    // do not round to the same key.
-    let quantum = (1e-9 * o.aabb().extent()).max(f64::MIN_POSITIVE).log2().ceil().exp2();
+    // A power of two, so that outlines of nearly the same size share it; it is part of the
+    // key, so a copy scaled by a power of two (concentric balls of radius 1 and 2) does not
+    // round to the same key.
+    let exponent = (1e-9 * o.aabb().extent()).max(f64::MIN_POSITIVE).log2().ceil();
+    let quantum = exponent.exp2();
     let mut key: Vec<(i64, i64, i64)> = o
         .vertices
         .iter()
@@ -484,7 +574,7 @@ fn outline_key(o: &Outline) -> OutlineKey {
     if let Some(start) = (0..key.len()).min_by_key(|&i| (key[i].0, key[i].1)) {
         key.rotate_left(start);
     }
-    key
+    (exponent as i32, key)
 }
 
 /// Warns about solids with the same outline as an earlier one (a paste too many): where two
@@ -520,21 +610,69 @@ fn duplicates(c: &mut Collector, keys: &mut [(u64, &str, &str, OutlineKey)]) {
 /// Warns about pairs of solids whose boundaries cross: where they overlap, the medium is
 /// ambiguous. Nested solids (one inside the other) and solids touching along a face are fine.
 /// `solids`: id, name, outline and its box of every solid with a usable outline.
-fn overlaps(c: &mut Collector, solids: &[(u64, &str, Outline, Aabb)]) {
-    for (i, a) in solids.iter().enumerate() {
-        for b in &solids[i + 1..] {
-            if !a.3.overlaps(&b.3) {
+///
+/// With few solids changed since the last check in `checks`, only pairs involving a changed
+/// solid are tested (against the solids whose boxes meet its box); otherwise one tree over
+/// the edges of all solids finds the crossing pairs, so nesting and crowding stay near
+/// n log n. Either way each crossing pair's point comes from [`Outline::crossing_with`] with
+/// the earlier solid first, so both ways give the same warnings.
+fn overlaps(c: &mut Collector, solids: &[(u64, &str, Arc<Outline>, Aabb)], checks: &mut GeometryChecks) {
+    let before: HashMap<u64, &Arc<Outline>> = checks.last_usable.iter().map(|(id, o)| (*id, o)).collect();
+    let changed: Vec<bool> = solids.iter().map(|s| before.get(&s.0).is_none_or(|o| !Arc::ptr_eq(o, &s.2))).collect();
+    let n_changed = changed.iter().filter(|&&x| x).count();
+    let position: HashMap<u64, usize> = solids.iter().enumerate().map(|(i, s)| (s.0, i)).collect();
+    let mut pairs: Vec<(usize, usize)> = Vec::new();
+    let mut points: HashMap<(usize, usize), Vec2> = HashMap::new();
+    let unique_ids = position.len() == solids.len();
+    if unique_ids && (n_changed == 0 || (!checks.last_usable.is_empty() && n_changed <= 8.max(solids.len() / 8))) {
+        // Keep the pairs of unchanged solids that still come in the same order.
+        for &(a, b, p) in &checks.last_pairs {
+            if let (Some(&i), Some(&j)) = (position.get(&a), position.get(&b)) {
+                if !changed[i] && !changed[j] && i < j {
+                    pairs.push((i, j));
+                    points.insert((i, j), p);
+                }
+            }
+        }
+        for (i, s) in solids.iter().enumerate() {
+            if !changed[i] {
                 continue;
             }
-            if let Some(p) = a.2.crossing_with(&b.2) {
-                c.current = Some((a.0, a.1.to_owned()));
-                c.warning(format!(
-                    "it overlaps solid {} \"{}\" near ({:.4}, {:.4}) mm without one containing the other; the medium there is ambiguous, so move one or make one fit inside the other",
-                    b.0, b.1, p.x, p.y
-                ));
+            for (j, t) in solids.iter().enumerate() {
+                // A pair of two changed solids is tested once, from the earlier.
+                if j == i || (changed[j] && j < i) || !s.3.overlaps(&t.3) {
+                    continue;
+                }
+                checks.counts.1 += 1;
+                let (a, b) = (i.min(j), i.max(j));
+                if let Some(p) = solids[a].2.crossing_with(&solids[b].2) {
+                    pairs.push((a, b));
+                    points.insert((a, b), p);
+                }
+            }
+        }
+    } else if solids.len() > 1 {
+        let outlines: Vec<&Outline> = solids.iter().map(|s| s.2.as_ref()).collect();
+        for (a, b) in crossing_pairs(&outlines) {
+            checks.counts.1 += 1;
+            if let Some(p) = outlines[a].crossing_with(outlines[b]) {
+                pairs.push((a, b));
+                points.insert((a, b), p);
             }
         }
     }
+    pairs.sort_unstable();
+    checks.last_pairs.clear();
+    for (i, j) in pairs {
+        let (a, b, p) = (&solids[i], &solids[j], points[&(i, j)]);
+        checks.last_pairs.push((a.0, b.0, p));
+        c.current = Some((a.0, a.1.to_owned()));
+        c.warning(format!(
+            "it overlaps solid {} \"{}\" near ({:.4}, {:.4}) mm without one containing the other; the medium there is ambiguous, so move one or make one fit inside the other",
+            b.0, b.1, p.x, p.y
+        ));
+    }
+    checks.last_usable = solids.iter().map(|s| (s.0, Arc::clone(&s.2))).collect();
     c.current = None;
 }
 

@@ -18,7 +18,7 @@ use std::sync::atomic::{AtomicBool, AtomicU64, AtomicUsize, Ordering};
 
 use rayon::prelude::*;
 
-pub use compile::{Compiled, Crossing, Interface, Role};
+pub use compile::{BvhUpdate, Compiled, Crossing, Interface, Role, UpdateReport};
 pub use job::TraceJob;
 pub use launch::{Launch, Launcher};
 
@@ -543,7 +543,26 @@ impl Merged {
     }
 }
 
-/// Traces an already compiled scene (lets a caller reuse the BVH between traces).
+/// A thread pool of `threads` threads, made on first use and kept for later traces (making
+/// a pool per trace costs more than a short retrace). `None` if the pool cannot be made;
+/// the global pool is used then.
+fn pool_of(threads: usize) -> Option<std::sync::Arc<rayon::ThreadPool>> {
+    use std::collections::HashMap;
+    use std::sync::{Arc, Mutex, OnceLock};
+    static POOLS: OnceLock<Mutex<HashMap<usize, Arc<rayon::ThreadPool>>>> = OnceLock::new();
+    let threads = threads.max(1);
+    let mut pools =
+        POOLS.get_or_init(|| Mutex::new(HashMap::new())).lock().unwrap_or_else(std::sync::PoisonError::into_inner);
+    if let Some(p) = pools.get(&threads) {
+        return Some(Arc::clone(p));
+    }
+    let pool = Arc::new(rayon::ThreadPoolBuilder::new().num_threads(threads).build().ok()?);
+    pools.insert(threads, Arc::clone(&pool));
+    Some(pool)
+}
+
+/// Traces an already compiled scene (lets a caller reuse the BVH between traces). The
+/// scene must be the revision `compiled` was made or last updated from.
 pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, control: &Control) -> Trace {
     let launcher = launch::Launcher::new(scene, compiled, config);
     control.total.store(launcher.len(), Ordering::Relaxed);
@@ -577,7 +596,7 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
         // Only when nothing is kept yet (the very first ray) may a ray be kept cut short.
         tracer.trace_chunk(&launcher.range(start, end), engine::Storage::Room { room, cut_first_ray: room == cap })
     };
-    let pool = config.threads.and_then(|n| rayon::ThreadPoolBuilder::new().num_threads(n.max(1)).build().ok());
+    let pool = config.threads.and_then(pool_of);
     // Merging one batch (serial: it appends to the single event list) runs beside the
     // tracing of the next, inside the same pool, so with two or more threads the merge no
     // longer leaves the other threads idle. With one thread both run on it in turn.
@@ -613,7 +632,7 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
                 || next.map(|batch| (run_batch(batch, store), store)),
             )
         };
-        let (keep_going, results) = match &pool {
+        let (keep_going, results) = match pool.as_deref() {
             Some(p) => p.install(step),
             None => step(),
         };
