@@ -87,7 +87,8 @@ fn brewster_angles() {
     // Book, "Brewster angle").
     close(brewster_angle(1.0, 1.5).to_degrees(), 56.3099, 1e-4, "Brewster air→glass");
     close(brewster_angle(1.5, 1.0).to_degrees(), 33.6901, 1e-4, "Brewster glass→air");
-    close((1.5f64).atan().to_degrees(), 56.309932, 1e-6, "Brewster exact");
+    // The two are complementary: θB + θB' = 90° (a consequence of tan θB = n₂/n₁).
+    close((brewster_angle(1.0, 1.5) + brewster_angle(1.5, 1.0)).to_degrees(), 90.0, 1e-12, "complementary");
     // At Brewster: Rs 0.14793, Rp 0 (references §2, computed).
     let f = fresnel(1.0, 1.5, brewster_angle(1.0, 1.5).cos());
     close(f.rs, 0.14793, 1e-5, "Rs at Brewster");
@@ -134,5 +135,42 @@ fn power_is_conserved_at_every_angle() {
             close(f.rs + f.ts, 1.0, 1e-15, "s");
             close(f.rp + f.tp, 1.0, 1e-15, "p");
         }
+    }
+}
+
+#[test]
+fn grazing_incidence_reflects_everything() {
+    // At θi = 90° (cos θi = 0) both amplitude coefficients are −1 in the formulas above, so
+    // Rs = Rp = 1 and Ts = Tp = 0, going into a denser or a rarer medium (Hecht, *Optics*,
+    // 5th ed., 2017, §4.6.2, from memory: "R → 1 as θi → 90°" for both polarisations).
+    for (n1, n2) in [(1.0, 1.5), (1.0, 1.33), (1.33, 1.52), (1.5, 1.0)] {
+        let f = fresnel(n1, n2, 0.0);
+        close(f.rs, 1.0, 1e-15, &format!("Rs grazing {n1}→{n2}"));
+        close(f.rp, 1.0, 1e-15, &format!("Rp grazing {n1}→{n2}"));
+        close(f.ts, 0.0, 1e-15, &format!("Ts grazing {n1}→{n2}"));
+        close(f.tp, 0.0, 1e-15, &format!("Tp grazing {n1}→{n2}"));
+    }
+    // Into a denser medium a transmitted ray still exists at grazing incidence, at the
+    // critical angle: cos θt = √(1 − (n₁/n₂)²) (Snell's law).
+    let f = fresnel(1.0, 1.5, 0.0);
+    assert!(!f.is_tir());
+    close(f.cos_t.expect("transmitted"), (1.0 - 1.0 / 2.25f64).sqrt(), 1e-15, "cos θt at grazing");
+    // Cosines a hair outside [0, 1] (rounding in a dot product) are clamped, not turned into
+    // NaN: the same numbers as at the ends of the range.
+    assert_eq!(fresnel(1.0, 1.5, -1e-17), fresnel(1.0, 1.5, 0.0));
+    assert_eq!(fresnel(1.0, 1.5, 1.0 + 1e-15), fresnel(1.0, 1.5, 1.0));
+}
+
+#[test]
+fn equal_indices_pass_everything() {
+    // No index step, no reflection: R = 0 and T = 1 at every angle, up to grazing (at
+    // exactly 90° sin²θt = 1 and the grazing case above applies; the engine never asks, as it
+    // passes rays straight on where the indices are equal).
+    for k in 0..90 {
+        let f = fresnel(1.5, 1.5, cos_deg(f64::from(k)));
+        close(f.rs, 0.0, 1e-15, "Rs equal indices");
+        close(f.rp, 0.0, 1e-15, "Rp equal indices");
+        close(f.ts, 1.0, 1e-15, "Ts equal indices");
+        close(f.tp, 1.0, 1e-15, "Tp equal indices");
     }
 }
