@@ -184,7 +184,7 @@ fn events_store_the_angle_of_incidence() {
     assert!((got[0] - 30.0).abs() < 1e-4, "mirror: {got:?}");
 
     // A plate of n = 1.5 hit at 45°: 45° at the entry face, then θt = 28.1255° at the exit
-    // face (Snell's law, air → 1.5 at 45°; references: computed from n₁ sin θ₁ = n₂ sin θ₂).
+    // face (computed from Snell's law, n₁ sin θ₁ = n₂ sin θ₂, air → 1.5 at 45°).
     let mut s = scene();
     solid(&mut s, "plate", rect(0.0, 0.0, 100.0, 10.0), 1.5);
     beam(&mut s, (-10.0, 10.0), 0.0, -45.0, 1, Polarization::Unpolarized);
