@@ -303,3 +303,71 @@ fn thin_elements_share_power_exactly_in_tree_mode() {
     let absorbed = 0.2 + 0.03 + 0.27 * 0.2;
     assert!((t.budget.absorbed / l - absorbed).abs() < 1e-12, "absorbed {}", t.budget.absorbed / l);
 }
+
+/// A wide block of n = 1.5 with its top face at y = 0 and a beam arriving at 45° on the
+/// origin; a short detector across the first-surface reflection, 10 mm from the hit point.
+/// Light reflected inside the block comes out more than 40 mm further on and misses it.
+fn block_at_45(rays: u32, pol: Polarization) -> raydraft::scene::Scene {
+    let mut s = scene();
+    solid(&mut s, "block", rect(0.0, -25.0, 400.0, 50.0), 1.5);
+    let d = unit((-45.0f64).to_radians());
+    let start = -d * 10.0;
+    beam(&mut s, (start.x, start.y), 1.0, -45.0, rays, pol);
+    let c = Vec2::new(1.0, 1.0).normalize() * 10.0;
+    let across = Vec2::new(-1.0, 1.0).normalize() * 2.0;
+    detector(&mut s, "reflection", ((c - across).x, (c - across).y), ((c + across).x, (c + across).y));
+    s
+}
+
+#[test]
+fn first_surface_reflection_at_45_degrees_in_tree_and_monte_carlo_modes() {
+    // Air → 1.5 at 45°: Rs 0.09201, Rp 0.00847, unpolarised mean 0.05024 (computed from the
+    // Fresnel equations, Smith, *Modern Optical Engineering*, 4th ed., eq. 11.1).
+    for (pol, want) in [(Polarization::S, 0.09201), (Polarization::P, 0.00847), (Polarization::Unpolarized, 0.05024)] {
+        let s = block_at_45(50, pol);
+        let t = run(&s, &config(&s, TraceMode::Tree));
+        let got = t.budget.detected[0] / t.budget.launched;
+        assert!((got - want).abs() < 1e-5, "tree {pol:?}: R {got} vs {want}");
+    }
+    // Monte Carlo: each ray is reflected with probability R (tolerance 4√(p(1−p)/N), common
+    // practice) and keeps its whole power.
+    let rays = 20_000;
+    let s = block_at_45(rays, Polarization::Unpolarized);
+    let mut c = config(&s, TraceMode::MonteCarlo);
+    c.settings.seed = 45;
+    let t = run(&s, &c);
+    let (got, want) = (t.budget.detected[0] / t.budget.launched, 0.05024);
+    let tol = 4.0 * (want * (1.0 - want) / f64::from(rays)).sqrt();
+    assert!((got - want).abs() < tol, "Monte Carlo: R {got} vs {want} ± {tol}");
+}
+
+#[test]
+fn monte_carlo_rays_keep_their_power_and_carry_the_polarisation_of_their_branch() {
+    // An unpolarised ray reflected at 45° on glass is mostly s: s share Rs/(Rs + Rp) =
+    // 0.09201/0.10048 = 0.91574; a transmitted one has s share Ts/(Ts + Tp) = 0.90799/1.89952
+    // = 0.47801 (computed from Smith, *Modern Optical Engineering*, 4th ed., eq. 11.1). The
+    // ray's total power is unchanged by the choice: the choice carries the probability.
+    let s = block_at_45(400, Polarization::Unpolarized);
+    let mut c = config(&s, TraceMode::MonteCarlo);
+    c.settings.seed = 3;
+    let t = run(&s, &c);
+    let (mut n_reflect, mut n_refract) = (0, 0);
+    for e in t.events.iter().filter(|e| e.n1 == 1.0 && e.n2 == 1.5) {
+        let before = f64::from(e.before_s + e.before_p);
+        let after = f64::from(e.after_s + e.after_p);
+        assert!((after - before).abs() < 1e-6 * before, "{e:?}");
+        let s_share = f64::from(e.after_s) / after;
+        match e.kind {
+            EventKind::Reflect => {
+                n_reflect += 1;
+                assert!((s_share - 0.91574).abs() < 1e-4, "reflected s share {s_share}");
+            }
+            EventKind::Refract => {
+                n_refract += 1;
+                assert!((s_share - 0.47801).abs() < 1e-4, "refracted s share {s_share}");
+            }
+            _ => {}
+        }
+    }
+    assert!(n_reflect > 0 && n_refract > 300, "{n_reflect} reflected, {n_refract} refracted");
+}
