@@ -346,3 +346,71 @@ fn library_indices_are_sane_over_valid_range() {
         }
     }
 }
+
+#[test]
+fn indices_are_sorted_into_usable_implausible_and_unusable() {
+    // The plausible range is [0.99, 10] relative to air, ends included (vacuum relative to air
+    // is 0.99972, from Ciddor 1996 above; the densest common optical solids stay below 5,
+    // common practice).
+    for n in [MIN_PLAUSIBLE_INDEX, 0.99972, 1.0, 1.5, 4.0, MAX_PLAUSIBLE_INDEX] {
+        assert_eq!(check_index(n), IndexCheck::Plausible, "n = {n}");
+    }
+    for n in [0.5, 0.989, 10.01, 1e6, f64::MIN_POSITIVE] {
+        assert_eq!(check_index(n), IndexCheck::Implausible, "n = {n}");
+    }
+    for n in [0.0, -0.0, -1.5, f64::NAN, f64::INFINITY, f64::NEG_INFINITY] {
+        assert_eq!(check_index(n), IndexCheck::Unusable, "n = {n}");
+    }
+}
+
+#[test]
+fn air_equations_reject_wavelengths_that_are_not_positive_and_finite() {
+    for bad in [0.0, -587.5618, f64::NAN, f64::INFINITY] {
+        assert!(air_index_edlen_1966(bad).is_nan(), "Edlén at {bad}");
+        assert!(air_index_birch_downs_1993(bad).is_nan(), "Birch & Downs at {bad}");
+        assert!(air_index_abs(bad).is_nan(), "Ciddor at {bad}");
+    }
+}
+
+#[test]
+fn every_formula_form_matches_its_closed_form() {
+    // Each form written out by hand at λ = 0.6 µm (the forms as documented on Dispersion),
+    // so a sign or a power changed in one of them shows.
+    let l: f64 = 0.6;
+    let l2 = l * l;
+    let cases = [
+        (Dispersion::Cauchy { a: 1.5, b_um2: 0.004, c_um4: 0.0001 }, 1.5 + 0.004 / l2 + 0.0001 / (l2 * l2)),
+        (
+            Dispersion::SellmeierWavelength { c0: 0.1, terms: vec![(0.7, 0.07), (0.9, 9.9)] },
+            (1.1 + 0.7 * l2 / (l2 - 0.0049) + 0.9 * l2 / (l2 - 98.01)).sqrt(),
+        ),
+        (Dispersion::SellmeierSquared { c0: 0.2, terms: vec![(1.1, 0.011)] }, (1.2 + 1.1 * l2 / (l2 - 0.011)).sqrt()),
+        (
+            Dispersion::PowerSeriesSquared { terms: vec![(2.2, 0), (0.01, 2), (0.02, -2), (-0.001, -4)] },
+            (2.2 + 0.01 * l2 + 0.02 / l2 - 0.001 / (l2 * l2)).sqrt(),
+        ),
+        (
+            Dispersion::Gas { terms: vec![(0.05, 238.0), (0.0017, 57.0)] },
+            1.0 + 0.05 / (238.0 - 1.0 / l2) + 0.0017 / (57.0 - 1.0 / l2),
+        ),
+        (Dispersion::Constant { n: 1.7 }, 1.7),
+    ];
+    for (d, want) in cases {
+        let got = d.index(600.0);
+        assert!((got - want).abs() < 1e-14, "{d:?}: {got} vs {want}");
+    }
+}
+
+#[test]
+fn vacuum_referenced_and_air_referenced_indices_convert_both_ways() {
+    // n_abs = n_rel_air · n_air for an air-referenced material; n_rel_air = n_abs / n_air for
+    // a vacuum-referenced one (definition of a relative index; Ciddor 1996 for n_air).
+    let nm = 500.0;
+    let n_air = air_index_abs(nm);
+    let glass = Material { reference: IndexReference::Air, ..Material::constant("g", 1.6) };
+    assert!((glass.index_abs(nm) - 1.6 * n_air).abs() < 1e-15);
+    assert!((glass.index_rel_air(nm) - 1.6).abs() < 1e-15);
+    let liquid = Material { reference: IndexReference::Vacuum, ..Material::constant("l", 1.6) };
+    assert!((liquid.index_abs(nm) - 1.6).abs() < 1e-15);
+    assert!((liquid.index_rel_air(nm) - 1.6 / n_air).abs() < 1e-15);
+}

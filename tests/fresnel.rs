@@ -111,6 +111,8 @@ fn critical_angles() {
         assert!(!inside.is_tir() && beyond.is_tir());
     }
     assert!(critical_angle(1.0, 1.5).is_none());
+    // Equal indices: no interface, so no critical angle (not 90°).
+    assert!(critical_angle(1.5, 1.5).is_none());
 }
 
 #[test]

@@ -93,7 +93,8 @@ fn monte_carlo_splitter_shares_follow_r_t_and_a() {
     let t = run(&s, &c);
     let l = t.budget.launched;
     let tol = |p: f64| 4.0 * (p * (1.0 - p) / f64::from(rays)).sqrt();
-    let (ahead, up, absorbed) = (t.budget.detected[0] / l, t.budget.detected[1] / l, t.budget.absorbed_by(splitter) / l);
+    let (ahead, up, absorbed) =
+        (t.budget.detected[0] / l, t.budget.detected[1] / l, t.budget.absorbed_by(splitter) / l);
     assert!((ahead - tr).abs() < tol(tr), "passed {ahead} vs {tr}");
     assert!((up - r).abs() < tol(r), "reflected {up} vs {r}");
     assert!((absorbed - 0.2).abs() < tol(0.2), "absorbed {absorbed} vs 0.2");
@@ -143,7 +144,11 @@ fn absorbed_power_is_kept_per_object() {
     beam(&mut s, (-10.0, 50.0), 2.0, 0.0, 100, Polarization::S);
     let mirror = s.add(
         "mirror",
-        ObjectKind::Mirror(Mirror { path: Path::segment((-5.0, 45.0), (5.0, 55.0)), reflectance: 0.7, one_sided: false }),
+        ObjectKind::Mirror(Mirror {
+            path: Path::segment((-5.0, 45.0), (5.0, 55.0)),
+            reflectance: 0.7,
+            one_sided: false,
+        }),
     );
     let sink = absorber(&mut s, "sink", (-10.0, 70.0), (10.0, 70.0));
     let t = run(&s, &config(&s, TraceMode::Tree));
@@ -209,7 +214,8 @@ fn an_events_fresnel_coefficients_are_the_ones_applied() {
     for e in t.events.iter().filter(|e| matches!(e.kind, EventKind::Refract | EventKind::Reflect) && e.n1 != e.n2) {
         let f = e.fresnel();
         let (bs, bp) = (f64::from(e.before_s), f64::from(e.before_p));
-        let (want_s, want_p) = if e.kind == EventKind::Refract { (bs * f.ts, bp * f.tp) } else { (bs * f.rs, bp * f.rp) };
+        let (want_s, want_p) =
+            if e.kind == EventKind::Refract { (bs * f.ts, bp * f.tp) } else { (bs * f.rs, bp * f.rp) };
         // Stored powers and angles are f32: agree to a few parts in 10⁶.
         assert!((f64::from(e.after_s) - want_s).abs() < 1e-5 * bs, "{e:?}");
         assert!((f64::from(e.after_p) - want_p).abs() < 1e-5 * bp, "{e:?}");
