@@ -182,3 +182,23 @@ fn equal_indices_pass_everything() {
         close(f.tp, 1.0, 1e-15, "Tp equal indices");
     }
 }
+
+#[test]
+fn exactly_at_the_critical_angle_both_routines_report_total_reflection() {
+    // n = 1.25 into air: sin θc = 0.8, so cos θc = 0.6 (a 3-4-5 triangle) and
+    // (n₁/n₂)² sin²θ = 1.5625 · 0.64 is exactly 1 in floating point. At θc the transmitted
+    // ray would run along the surface with T = 0 (Hecht 2017 §4.7, from memory); both routines
+    // count it as total reflection, so the engine, which asks both, sees one answer.
+    let f = fresnel(1.25, 1.0, 0.6);
+    assert!(f.is_tir(), "{f:?}");
+    close(f.rs, 1.0, 0.0, "Rs at θc");
+    close(f.rp, 1.0, 0.0, "Rp at θc");
+    let d = Vec2::new(0.8, -0.6);
+    assert!(refract(d, Vec2::new(0.0, 1.0), 1.25, 1.0).is_none());
+    assert!(refract(d, Vec2::new(0.0, -1.0), 1.25, 1.0).is_none(), "either normal");
+    // A hair inside the critical angle both refract.
+    let inside = 0.6 + 1e-12;
+    assert!(!fresnel(1.25, 1.0, inside).is_tir());
+    let d = Vec2::new((1.0 - inside * inside).sqrt(), -inside);
+    assert!(refract(d, Vec2::new(0.0, 1.0), 1.25, 1.0).is_some());
+}

@@ -223,3 +223,44 @@ fn an_events_fresnel_coefficients_are_the_ones_applied() {
     }
     assert!(n_checked >= 4, "checked {n_checked} events");
 }
+
+#[test]
+fn tree_mode_splitter_shares_are_exact() {
+    // Tree mode follows both branches with their exact shares: R, T and A = 1 − R − T.
+    let (s, splitter) = splitter_scene(0.3, 0.5, 50);
+    let t = run(&s, &config(&s, TraceMode::Tree));
+    let l = t.budget.launched;
+    assert!((t.budget.detected[0] / l - 0.5).abs() < 1e-12, "ahead {}", t.budget.detected[0] / l);
+    assert!((t.budget.detected[1] / l - 0.3).abs() < 1e-12, "up {}", t.budget.detected[1] / l);
+    assert!((t.budget.absorbed_by(splitter) / l - 0.2).abs() < 1e-12, "absorbed");
+    // The split keeps the s/p mix of the incoming ray on both branches.
+    for e in t.events.iter().filter(|e| matches!(e.kind, EventKind::Reflect | EventKind::Transmit)) {
+        let share = if e.kind == EventKind::Reflect { 0.3 } else { 0.5 };
+        assert!((f64::from(e.after_s) - share * f64::from(e.before_s)).abs() < 1e-7, "{e:?}");
+        assert!((f64::from(e.after_p) - share * f64::from(e.before_p)).abs() < 1e-7, "{e:?}");
+    }
+}
+
+#[test]
+fn a_detector_records_where_at_what_angle_and_how_much_arrives() {
+    // A vertical detector from (0, −5) to (0, 5); one ray going up-right at 30° arrives at
+    // (0, 1). Along the detector: 6 mm from its first point. Angle from the normal on the
+    // side the ray came from, counter-clockwise positive: +30° (the ray's reverse direction
+    // is turned 30° counter-clockwise from that normal; law of reflection geometry).
+    for (from_left, want_angle) in [(true, 30.0), (false, -30.0)] {
+        let mut s = scene();
+        let (dir_deg, x): (f64, f64) = if from_left { (30.0, -10.0) } else { (150.0, 10.0) };
+        let d = raydraft::geom::unit(dir_deg.to_radians());
+        let start = raydraft::geom::Vec2::new(0.0, 1.0) - d * (x.abs() / d.x.abs());
+        beam(&mut s, (start.x, start.y), 0.0, dir_deg, 1, Polarization::S);
+        detector(&mut s, "screen", (0.0, -5.0), (0.0, 5.0));
+        let t = run(&s, &config(&s, TraceMode::Principal));
+        let hits = &t.detectors[0].hits;
+        assert_eq!(hits.len(), 1);
+        let h = hits[0];
+        assert!((h.along - 6.0).abs() < 1e-9, "along {}", h.along);
+        assert!((h.angle_deg - want_angle).abs() < 1e-9, "from left {from_left}: angle {}", h.angle_deg);
+        assert!((h.power - t.budget.launched).abs() < 1e-15, "power {}", h.power);
+        assert!((h.wavelength_nm - 587.5618).abs() < 1e-12);
+    }
+}
