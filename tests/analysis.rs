@@ -52,11 +52,12 @@ fn explanation_of_a_refraction_matches_snell_and_fresnel() {
     assert_eq!(surface.edge, edge_on(&s, surface.object_id, 0.0));
     assert!((step.n1 - 1.0).abs() < 1e-7 && (step.n2 - 1.5).abs() < 1e-7);
     assert!((step.incidence_deg.expect("angle") - 30.0).abs() < 1e-5);
-    // Snell: asin(sin 30°/1.5) = 19.4712° (references §3, computed there; Hecht, Optics, 5th
-    // ed. 2017, §4.4, from memory).
+    // Snell: asin(sin 30°/1.5) = 19.4712°, computed from Snell's law (Hecht, *Optics*, 5th
+    // ed., 2017, §4.4, section number from memory).
     assert!((step.refraction_deg.expect("refracts") - 19.4712206).abs() < 1e-4);
-    // Fresnel at 30°, air→1.5: Rs 0.05780, Rp 0.02525 (references §2, computed there from
-    // the Fresnel equations, Hecht 2017 §4.6, from memory).
+    // Fresnel at 30°, air→1.5: Rs 0.05780, Rp 0.02525, computed from the Fresnel equations
+    // in their sine and tangent form (Smith, *Modern Optical Engineering*, 4th ed., eq. 11.1;
+    // also Hecht 2017 §4.6, from memory).
     let f = step.fresnel.expect("an interface");
     assert!((f.rs - 0.05780).abs() < 1e-5, "Rs {}", f.rs);
     assert!((f.rp - 0.02525).abs() < 1e-5, "Rp {}", f.rp);
@@ -105,7 +106,8 @@ fn explanation_of_a_total_internal_reflection() {
     let t = run(&s, &config(&s, TraceMode::Tree));
     let x = explain_ray(&s, &t, 0).expect("explained");
     let tir = x.steps.iter().find(|s| s.kind == EventKind::Tir).expect("a TIR");
-    // Critical angle asin(1/1.5) = 41.8103° (references §3, computed there).
+    // Critical angle asin(1/1.5) = 41.8103°, computed from Snell's law with θt = 90° (Hecht
+    // 2017 §4.7, section number from memory).
     assert!((tir.critical_deg.expect("a critical angle") - 41.810315).abs() < 1e-4);
     assert!((tir.incidence_deg.expect("angle") - 45.0).abs() < 1e-5);
     assert!(tir.refraction_deg.is_none());
@@ -124,10 +126,11 @@ fn escape_cone_of_water_and_glass() {
     let top = edge_on(&s, water, 0.0);
     let c = escape_cone(&s, water, top, Vec2::new(3.0, 0.0), 587.5618).expect("a cone");
     // Water relative to air at the d line: 1.33299 (Daimon & Masumura 2007, Appl. Opt.
-    // 46:3811, the library's source; references §1, read there). Its critical angle,
-    // asin(1/1.33299) = 48.607°, agrees with 48.6066° for n = 1.333 (references §3).
-    // Tolerance 5e-5 as references §1 gives for water (the air index used for "relative to
-    // air" differs slightly between sources).
+    // 46:3811, the library's source, as tabulated relative to air in Polyanskiy 2024,
+    // "Refractiveindex.info database of optical constants", Sci. Data 11:94). Its critical
+    // angle, asin(1/1.33299) = 48.607°, agrees with asin(1/1.333) = 48.6066° (computed).
+    // Tolerance 5e-5 (the air index used for "relative to air" differs slightly between
+    // sources; common practice).
     assert!((c.n_inside - 1.33299).abs() < 5e-5, "n water {}", c.n_inside);
     assert!((c.n_outside - 1.0).abs() < 1e-12);
     let half = c.half_angle_deg.expect("a cone");
@@ -135,8 +138,9 @@ fn escape_cone_of_water_and_glass() {
     // 5e-5 in n moves the angle by 0.004°.
     assert!((half - 48.6066).abs() < 5e-3, "water critical angle {half}");
     assert!((c.outward_normal - Vec2::new(0.0, 1.0)).norm() < 1e-12);
-    // Glass n = 1.5: 41.8103° (references §3); 2θc/π = 0.464559 of an isotropic emitter's
-    // rays toward the face leave (references §3, derived there).
+    // Glass n = 1.5: asin(1/1.5) = 41.8103° (computed); 2θc/π = 0.464559 of an in-plane
+    // isotropic emitter's rays toward the face leave (derived: the rays toward a face span
+    // π and those inside the escape cone 2θc, with dN/dθ constant).
     let top = edge_on(&s, glass, 0.0);
     let g = escape_cone(&s, glass, top, Vec2::new(100.0, 0.0), 587.5618).expect("a cone");
     assert!((g.half_angle_deg.expect("a cone") - 41.810315).abs() < 1e-5);
@@ -287,8 +291,8 @@ fn sweep_finds_the_critical_angle_of_water() {
     let fine = sweep(&s, &param, coarse[k - 1].0, coarse[k].0, 101, &metric, &control).expect("sweeps");
     let j = fine.iter().position(|&(_, w)| w == 0.0).expect("a zero");
     let found = 90.0 - 0.5 * (fine[j - 1].0 + fine[j].0);
-    // Critical angle of water: 48.6066° for n = 1.333 (references §3, computed there); the
-    // library's water (Daimon & Masumura 2007) gives 48.607°.
+    // Critical angle of water: asin(1/1.333) = 48.6066° (computed from Snell's law); the
+    // library's water (Daimon & Masumura 2007, Appl. Opt. 46:3811) gives 48.607°.
     assert!((found - 48.6066).abs() < 0.01, "critical angle found at {found}°");
 }
 
@@ -319,7 +323,6 @@ fn sweep_finds_the_minimum_deviation_of_a_prism() {
     let (dir, dmin) = least(&fine);
     // D_min = 2·asin(n·sin(A/2)) − A = 37.180756° for n = 1.5, A = 60° (Hecht, Optics, 5th
     // ed. 2017, §5.5.1, eq. 5.54, from memory), reached at θi = (D_min + A)/2 = 48.5904°.
-    // (references.md gives no prism value; this is the formula the trace tests use.)
     let expected = 2.0 * (n * half.sin()).asin().to_degrees() - apex;
     assert!((dmin - expected).abs() < 1e-5, "minimum deviation {dmin} vs {expected}");
     assert!((dir + 30.0 - expected.midpoint(apex)).abs() < 0.01, "incidence at the minimum {}", dir + 30.0);
@@ -344,8 +347,8 @@ fn sweep_finds_brewsters_angle() {
     let (d0, _) = least(&coarse);
     let fine = sweep(&s, &param, d0 - 0.5, d0 + 0.5, 201, &metric, &control).expect("sweeps");
     let (dir, rmin) = least(&fine);
-    // Brewster's angle atan(1.5) = 56.3099° (references §2, computed there; formula from the
-    // IUPAC Gold Book, read there), where Rp = 0.
+    // Brewster's angle atan(1.5) = 56.3099° (computed from tan θB = n₂/n₁; IUPAC Compendium
+    // of Chemical Terminology, the "Gold Book", entry "Brewster angle"), where Rp = 0.
     assert!((dir + 90.0 - 56.309932).abs() < 0.006, "Brewster at {}", dir + 90.0);
     assert!(rmin < 1e-6, "reflectance at the minimum {rmin}");
 }

@@ -1,9 +1,11 @@
 //! Dispersion formulas, the air/vacuum convention and the built-in material library, checked
-//! against the published and computed values collected in the project's reference notes.
+//! against published values and values computed from the published coefficients.
 //!
-//! Values marked "computed" were computed in the reference notes from the database
-//! coefficients of the named source and rounded to the digits shown, so the tests check that
-//! the coefficients and formula forms were transcribed correctly.
+//! Values marked "computed" were computed, independently of this code, from the coefficients
+//! of the named source as the refractiveindex.info database gives them (Polyanskiy 2024,
+//! "Refractiveindex.info database of optical constants", Sci. Data 11:94) and rounded to the
+//! digits shown, so the tests check that the coefficients and formula forms were transcribed
+//! correctly. Each material's `source` string names the same work as its test.
 
 // Reference values are written exactly as published, so digit grouping would hide typos.
 #![allow(clippy::unreadable_literal)]
@@ -56,17 +58,29 @@ fn check_abbe(name: &str, expected: f64) {
 }
 
 #[test]
-fn fraunhofer_lines() {
-    // Wavelengths of the F, d and C lines, from memory; they match the reference notes.
-    assert!((LINE_F_NM - 486.1327).abs() < 1e-9);
-    assert!((LINE_D_NM - 587.5618).abs() < 1e-9);
-    assert!((LINE_C_NM - 656.2725).abs() < 1e-9);
+fn abbe_number_uses_the_f_d_and_c_lines() {
+    // Vd = (nd − 1)/(nF − nC) at the hydrogen F (486.1327 nm), helium d (587.5618 nm) and
+    // hydrogen C (656.2725 nm) lines (line wavelengths from memory). For a two-term Cauchy
+    // material n = a + b/λ² the closed form is (a − 1 + b/λd²)/(b·(1/λF² − 1/λC²)), computed
+    // here from the wavelengths written out, so a wrong line or a wrong formula both show.
+    let (a, b) = (1.5, 0.004);
+    let cauchy =
+        Material { dispersion: Dispersion::Cauchy { a, b_um2: b, c_um4: 0.0 }, ..Material::constant("cauchy", 1.0) };
+    let (f, d, c) = (0.4861327f64, 0.5875618f64, 0.6562725f64);
+    let want = (a - 1.0 + b / (d * d)) / (b * (1.0 / (f * f) - 1.0 / (c * c)));
+    let got = abbe_number(&cauchy);
+    assert!((got - want).abs() < 1e-9 * want, "Vd {got} vs {want}");
+    // The same material's index at each line is the formula at that wavelength.
+    check(&cauchy, LINE_F_NM, a + b / (f * f), 1e-13);
+    check(&cauchy, LINE_D_NM, a + b / (d * d), 1e-13);
+    check(&cauchy, LINE_C_NM, a + b / (c * c), 1e-13);
 }
 
 #[test]
 fn fused_silica_malitson_1965() {
     // Malitson 1965, JOSA 55:1205; nF/nd/nC computed from the database coefficients
-    // (Polyanskiy 2024, Sci. Data 11:94), tolerance 2e-5 as in the reference notes.
+    // (Polyanskiy 2024, Sci. Data 11:94), tolerance 2e-5 (rounding of the computed values;
+    // common practice).
     check_fdc("fused-silica", [1.46313, 1.45846, 1.45637], 2e-5);
     // Malitson 1965, JOSA 55:1205; Vd computed from the same coefficients.
     check_abbe("fused-silica", 67.82);
@@ -78,10 +92,9 @@ fn sapphire_ordinary_malitson_dodge() {
     // Tech. IV; nF/nd/nC computed from the database coefficients, tolerance 5e-5.
     check_fdc("sapphire-o", [1.77551, 1.76817, 1.76488], 5e-5);
     let m = mat("sapphire-o");
-    // Malitson & Dodge 1972 / Dodge 1986, computed; the reference notes found it agrees with a
-    // published table of sapphire indices.
+    // Malitson & Dodge 1972 / Dodge 1986, computed from the database coefficients.
     check(&m, 633.0, 1.76590, 5e-5);
-    // Malitson & Dodge 1972 / Dodge 1986, computed; checked against the same table.
+    // Malitson & Dodge 1972 / Dodge 1986, computed from the database coefficients.
     check(&m, 1064.0, 1.75449, 5e-5);
     // Malitson & Dodge 1972 / Dodge 1986; Vd computed from the same coefficients.
     check_abbe("sapphire-o", 72.31);
@@ -133,9 +146,11 @@ fn pmma_beadie_2015() {
 
 #[test]
 fn sultanova_2009_polymers() {
-    // The one-term coefficients are from memory (Polyanskiy's database fits of Sultanova et
-    // al. 2009), checked against the fit values in the reference notes §1. The fit values are
-    // rounded to five decimals, so 1e-5 covers rounding of both values and coefficients.
+    // As the materials' source says: one-term Sellmeier fits of the measurements of Sultanova,
+    // Kasarova & Nikolov 2009 (Acta Phys. Pol. A 116:585) made by the refractiveindex.info
+    // database (Polyanskiy 2024, Sci. Data 11:94); nF/nd/nC computed from the database's fit
+    // coefficients. The values are rounded to five decimals, so 1e-5 covers rounding of both
+    // values and coefficients.
     // PMMA fit: nF/nd/nC computed from the Sultanova 2009 one-term fit.
     check_fdc("pmma-sultanova", [1.49710, 1.49062, 1.48788], 1e-5);
     // Polycarbonate fit: nF/nd/nC computed from the Sultanova 2009 one-term fit.
@@ -225,7 +240,7 @@ fn glass_absolute_index_includes_air() {
     let rel = silica.index_rel_air(LINE_D_NM);
     let abs = silica.index_abs(LINE_D_NM);
     assert!((abs - rel * air_index_abs(LINE_D_NM)).abs() < 1e-15);
-    // The difference is about 4e-4, as the reference notes warn.
+    // The difference is n·(n_air − 1) ≈ 1.458 × 2.77e-4 ≈ 4.04e-4 (Ciddor 1996 for n_air).
     assert!((abs - rel - 4.04e-4).abs() < 1e-5, "abs - rel = {}", abs - rel);
 }
 
@@ -330,4 +345,72 @@ fn library_indices_are_sane_over_valid_range() {
             nm += 10.0;
         }
     }
+}
+
+#[test]
+fn indices_are_sorted_into_usable_implausible_and_unusable() {
+    // The plausible range is [0.99, 10] relative to air, ends included (vacuum relative to air
+    // is 0.99972, from Ciddor 1996 above; the densest common optical solids stay below 5,
+    // common practice).
+    for n in [MIN_PLAUSIBLE_INDEX, 0.99972, 1.0, 1.5, 4.0, MAX_PLAUSIBLE_INDEX] {
+        assert_eq!(check_index(n), IndexCheck::Plausible, "n = {n}");
+    }
+    for n in [0.5, 0.989, 10.01, 1e6, f64::MIN_POSITIVE] {
+        assert_eq!(check_index(n), IndexCheck::Implausible, "n = {n}");
+    }
+    for n in [0.0, -0.0, -1.5, f64::NAN, f64::INFINITY, f64::NEG_INFINITY] {
+        assert_eq!(check_index(n), IndexCheck::Unusable, "n = {n}");
+    }
+}
+
+#[test]
+fn air_equations_reject_wavelengths_that_are_not_positive_and_finite() {
+    for bad in [0.0, -587.5618, f64::NAN, f64::INFINITY] {
+        assert!(air_index_edlen_1966(bad).is_nan(), "Edlén at {bad}");
+        assert!(air_index_birch_downs_1993(bad).is_nan(), "Birch & Downs at {bad}");
+        assert!(air_index_abs(bad).is_nan(), "Ciddor at {bad}");
+    }
+}
+
+#[test]
+fn every_formula_form_matches_its_closed_form() {
+    // Each form written out by hand at λ = 0.6 µm (the forms as documented on Dispersion),
+    // so a sign or a power changed in one of them shows.
+    let l: f64 = 0.6;
+    let l2 = l * l;
+    let cases = [
+        (Dispersion::Cauchy { a: 1.5, b_um2: 0.004, c_um4: 0.0001 }, 1.5 + 0.004 / l2 + 0.0001 / (l2 * l2)),
+        (
+            Dispersion::SellmeierWavelength { c0: 0.1, terms: vec![(0.7, 0.07), (0.9, 9.9)] },
+            (1.1 + 0.7 * l2 / (l2 - 0.0049) + 0.9 * l2 / (l2 - 98.01)).sqrt(),
+        ),
+        (Dispersion::SellmeierSquared { c0: 0.2, terms: vec![(1.1, 0.011)] }, (1.2 + 1.1 * l2 / (l2 - 0.011)).sqrt()),
+        (
+            Dispersion::PowerSeriesSquared { terms: vec![(2.2, 0), (0.01, 2), (0.02, -2), (-0.001, -4)] },
+            (2.2 + 0.01 * l2 + 0.02 / l2 - 0.001 / (l2 * l2)).sqrt(),
+        ),
+        (
+            Dispersion::Gas { terms: vec![(0.05, 238.0), (0.0017, 57.0)] },
+            1.0 + 0.05 / (238.0 - 1.0 / l2) + 0.0017 / (57.0 - 1.0 / l2),
+        ),
+        (Dispersion::Constant { n: 1.7 }, 1.7),
+    ];
+    for (d, want) in cases {
+        let got = d.index(600.0);
+        assert!((got - want).abs() < 1e-14, "{d:?}: {got} vs {want}");
+    }
+}
+
+#[test]
+fn vacuum_referenced_and_air_referenced_indices_convert_both_ways() {
+    // n_abs = n_rel_air · n_air for an air-referenced material; n_rel_air = n_abs / n_air for
+    // a vacuum-referenced one (definition of a relative index; Ciddor 1996 for n_air).
+    let nm = 500.0;
+    let n_air = air_index_abs(nm);
+    let glass = Material { reference: IndexReference::Air, ..Material::constant("g", 1.6) };
+    assert!((glass.index_abs(nm) - 1.6 * n_air).abs() < 1e-15);
+    assert!((glass.index_rel_air(nm) - 1.6).abs() < 1e-15);
+    let liquid = Material { reference: IndexReference::Vacuum, ..Material::constant("l", 1.6) };
+    assert!((liquid.index_abs(nm) - 1.6).abs() < 1e-15);
+    assert!((liquid.index_rel_air(nm) - 1.6 / n_air).abs() < 1e-15);
 }

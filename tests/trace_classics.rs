@@ -7,6 +7,7 @@ mod common;
 
 use common::*;
 use raydraft::geom::{Vec2, angle_of};
+use raydraft::optics::fresnel::{brewster_angle, critical_angle};
 use raydraft::scene::{Polarization, Shape, TraceMode};
 use raydraft::trace::EventKind;
 
@@ -82,12 +83,13 @@ fn prism_minimum_deviation_by_sweeping_incidence() {
 fn right_angle_prism_returns_the_beam_by_two_tirs() {
     // Two reflections on faces at 90° turn any in-plane ray through exactly 180°; with n = 1.5
     // both are total internal reflections while the tilt α at the hypotenuse satisfies
-    // |α| < asin(n·sin(45° − θc)) = 4.7876° (references §3: computed limit; the mirror pair is
-    // Hecht 2017 §5.5.2).
+    // |α| < asin(n·sin(45° − θc)) = 4.7876° (computed from Snell's law at the hypotenuse and
+    // the critical angle at the two faces; the mirror pair is Hecht 2017 §5.5.2, from memory).
     let n: f64 = 1.5;
-    let limit = (n * (45f64.to_radians() - (1.0 / n).asin()).sin()).asin().to_degrees();
+    let theta_c = critical_angle(n, 1.0).expect("glass in air has a critical angle");
+    let limit = (n * (45f64.to_radians() - theta_c).sin()).asin().to_degrees();
     assert!((limit - 4.7876).abs() < 1e-4, "limit {limit}");
-    for alpha in [0.0, 1.0, -2.5, 4.0, -4.7] {
+    for alpha in [0.0, 1.0, -2.5, 4.0, -4.7, limit - 0.02, -(limit - 0.02)] {
         let mut s = scene();
         solid(&mut s, "prism", Shape::Prism { position: (0.0, 0.0), apex_deg: 90.0, side: 20.0, rotation_deg: 0.0 }, n);
         // Up into the hypotenuse (the base), tilted by α, aimed left of centre.
@@ -120,7 +122,7 @@ fn right_angle_prism_returns_the_beam_by_two_tirs() {
 fn parallel_plate_transmits_one_minus_r_over_one_plus_r() {
     // Incoherent multiple reflections in a lossless plate: T = (1 − R)/(1 + R) for each
     // polarisation (Born & Wolf, *Principles of Optics*, 7th ed., 1999, §7.6.1 for the sum
-    // of the geometric series; references §3 for the plate). R from the sine and tangent forms
+    // of the geometric series, section number from memory). R from the sine and tangent forms
     // (Smith 2008, eq. 11.1), computed here independently of the engine.
     let n: f64 = 1.5;
     let ti = 45f64.to_radians();
@@ -147,7 +149,7 @@ fn parallel_plate_transmits_one_minus_r_over_one_plus_r() {
 
 #[test]
 fn plate_shifts_a_ray_sideways() {
-    // d = t·sinθ·[1 − cosθ/√(n² − sin²θ)] (references §3; Jenkins & White, *Fundamentals of
+    // d = t·sinθ·[1 − cosθ/√(n² − sin²θ)] (Jenkins & White, *Fundamentals of
     // Optics*, 4th ed., 1976, from memory): n = 1.5, t = 10 mm at 45° → 3.29142 mm and at
     // 30° → 1.93814 mm.
     for (deg, want) in [(45.0f64, 3.29142), (30.0, 1.93814)] {
@@ -176,8 +178,9 @@ fn axis_crossing(t: &raydraft::trace::Trace, ray: usize) -> f64 {
 
 #[test]
 fn ball_lens_focuses_at_its_effective_focal_length() {
-    // EFL = nD/(4(n − 1)) from the centre (references §3, derived from the thick-lens
-    // equation, Hecht 2017 §6.2): D = 10 mm, n = 1.5 → 7.5 mm; n = 2 → 5 mm (on the surface).
+    // EFL = nD/(4(n − 1)) from the centre (derived from the thick-lens equation with
+    // R₁ = −R₂ = D/2 and d = D, Hecht 2017 §6.2, from memory): D = 10 mm, n = 1.5 → 7.5 mm;
+    // n = 2 → 5 mm (on the surface).
     for (n, want) in [(1.5, 7.5), (2.0, 5.0)] {
         let mut s = scene();
         solid(&mut s, "ball", Shape::Ball { position: (0.0, 0.0), radius: 5.0 }, n);
@@ -191,7 +194,7 @@ fn ball_lens_focuses_at_its_effective_focal_length() {
 #[test]
 fn thick_lenses_match_the_lensmaker_equation() {
     // 1/f = (n−1)[1/R₁ − 1/R₂ + (n−1)d/(nR₁R₂)], BFL = f[1 − (n−1)d/(nR₁)] (Hecht 2017 §6.2,
-    // references §3). Case 1: R = ±50, d = 5, n = 1.5 → BFL 49.1525. Case 2: plano-convex
+    // from memory). Case 1: R = ±50, d = 5, n = 1.5 → BFL 49.1525. Case 2: plano-convex
     // R₁ = 100, flat back, d = 10 → BFL 193.333.
     for (r1, r2, d, want_bfl) in [(50.0, -50.0, 5.0, 49.1525), (100.0, 0.0, 10.0, 193.3333)] {
         let mut s = scene();
@@ -212,10 +215,12 @@ fn thick_lenses_match_the_lensmaker_equation() {
 #[test]
 fn core_cladding_guide_accepts_rays_inside_its_numerical_aperture() {
     // NA = √(n₁² − n₂²) = 0.242487 for n₁ = 1.48, n₂ = 1.46: acceptance 14.0334° in air
-    // (Saleh & Teich, *Fundamentals of Photonics*, 2nd ed., 2007, §9.1; references §3 — in 2D
-    // every ray is meridional, so it is exact).
-    let na = (1.48f64 * 1.48 - 1.46 * 1.46).sqrt();
-    assert!((na - 0.242487).abs() < 1e-6);
+    // (Saleh & Teich, *Fundamentals of Photonics*, 2nd ed., 2007, §9.1, section number from
+    // memory; in 2D every ray is meridional, so it is exact). From the library's critical
+    // angle at the core wall: NA = n₁·cos θc.
+    let theta_c = critical_angle(1.48, 1.46).expect("core denser than cladding");
+    let na = 1.48 * theta_c.cos();
+    assert!((na - 0.242487).abs() < 1e-6, "NA {na}");
     assert!((na.asin().to_degrees() - 14.0334).abs() < 1e-4);
     for (angle, guided) in [(13.5, true), (-13.9, true), (14.2, false), (-14.5, false), (20.0, false)] {
         let mut s = scene();
@@ -298,11 +303,13 @@ fn zero_length_edges_and_repeated_vertices_are_harmless() {
 
 #[test]
 fn p_light_at_brewsters_angle_is_not_reflected() {
-    // At tan θB = n₂/n₁ the p reflectance vanishes (Hecht 2017 §8.6.1; references §2:
-    // 56.3099° for air → 1.5, where Rs = 0.14793). Traced in tree mode with no threshold,
-    // a p-polarised beam sends no power to a detector placed to catch the reflection.
+    // At tan θB = n₂/n₁ the p reflectance vanishes (Hecht 2017 §8.6.1, from memory): 56.3099°
+    // for air → 1.5, where Rs = 0.14793 (computed from Smith, *Modern Optical Engineering*,
+    // 4th ed., eq. 11.1). Traced in tree mode with no threshold, a p-polarised beam sends no
+    // power to a detector placed to catch the reflection.
     let n: f64 = 1.5;
-    let brewster = n.atan().to_degrees();
+    let brewster = brewster_angle(1.0, n).to_degrees();
+    assert!((brewster - 56.3099).abs() < 1e-4, "Brewster {brewster}");
     for (pol, want) in [(Polarization::P, 0.0), (Polarization::S, 0.14793)] {
         let mut s = scene();
         solid(&mut s, "block", rect(0.0, -10.0, 200.0, 20.0), n);
@@ -324,8 +331,8 @@ fn p_light_at_brewsters_angle_is_not_reflected() {
 #[test]
 fn a_thick_lens_has_the_lensmakers_focal_length() {
     // Effective focal length from a paraxial ray: f = −h / tan u′ for a ray entering parallel
-    // at height h (Hecht 2017 §6.2). R = ±50 mm, d = 5 mm, n = 1.5 → f = 50.8475 mm
-    // (references §3, thick-lens equation).
+    // at height h (Hecht 2017 §6.2, from memory). R = ±50 mm, d = 5 mm, n = 1.5 → f = 50.8475 mm
+    // (computed from the thick-lens equation).
     let mut s = scene();
     solid(
         &mut s,

@@ -34,8 +34,10 @@ impl Fresnel {
 /// positive) with `cos_i` the cosine of the angle of incidence (clamped to [0, 1]).
 ///
 /// Formulas: Hecht, *Optics*, 5th ed. (2017), §4.6.2, eqs. 4.42–4.45 (amplitude
-/// coefficients) and 4.56–4.64 (power coefficients). Under total internal reflection R = 1 and
-/// T = 0 for both polarisations.
+/// coefficients) and 4.56–4.64 (power coefficients), section and equation numbers from
+/// memory; the sine and tangent form is Smith, *Modern Optical Engineering*, 4th ed., eq. 11.1.
+/// Under total internal reflection R = 1 and T = 0 for both polarisations; exactly at the
+/// critical angle (sin θt = 1) counts as total internal reflection, as in [`refract`].
 pub fn fresnel(n1: f64, n2: f64, cos_i: f64) -> Fresnel {
     let cos_i = cos_i.clamp(0.0, 1.0);
     let sin_i2 = (1.0 - cos_i * cos_i).max(0.0);
@@ -70,7 +72,8 @@ pub fn reflect(d: Vec2, n: Vec2) -> Vec2 {
 /// `None` under total internal reflection.
 ///
 /// t = η d + (η cos θi − cos θt) n̂ with n̂ facing against `d`, η = n1/n2 (Hecht 2017, §4.4;
-/// the vector form as in Glassner, *An Introduction to Ray Tracing*, 1989, ch. 6).
+/// the vector form as in Glassner, *An Introduction to Ray Tracing*, 1989, ch. 6; section and
+/// chapter numbers from memory).
 #[inline]
 pub fn refract(d: Vec2, n: Vec2, n1: f64, n2: f64) -> Option<Vec2> {
     let mut nn = n;
