@@ -9,7 +9,7 @@ use std::process::ExitCode;
 use std::time::Instant;
 
 use anyhow::{Context, anyhow};
-use clap::{CommandFactory, Parser, Subcommand, ValueEnum};
+use clap::{Parser, Subcommand, ValueEnum};
 
 use raydraft::analysis::{BudgetReport, budget_report};
 use raydraft::export;
@@ -28,7 +28,7 @@ use raydraft::trace::{Compiled, Control, Trace, TraceConfig, trace_compiled};
 #[derive(Debug, Parser)]
 #[command(name = "raydraft", version, args_conflicts_with_subcommands = true)]
 pub struct Cli {
-    /// A scene file to open in the editor (the editor is not built yet).
+    /// A scene file to open in the editor (without one the editor opens a demo scene).
     pub file: Option<PathBuf>,
     #[command(subcommand)]
     pub command: Option<Command>,
@@ -132,15 +132,13 @@ pub fn run(cli: Cli) -> Result<ExitCode, Failure> {
         Some(Command::Check { file }) => Ok(check(&file)),
         Some(Command::Index(args)) => index(&args),
         None => {
-            println!("The Raydraft editor is not built yet; for now the command line does the work.");
-            if let Some(path) = cli.file {
-                let loaded = load(&path)?;
+            if let Some(path) = &cli.file {
+                // A file that does not load is reported here, with its line and column, rather
+                // than in a window.
+                let loaded = load(path)?;
                 print_load_warnings(&loaded);
-                println!("To trace this scene, run:\n  raydraft trace {}", path.display());
-            } else {
-                println!();
-                let _ = Cli::command().print_help();
             }
+            raydraft::app::run(cli.file).map_err(other)?;
             Ok(ExitCode::SUCCESS)
         }
     }
