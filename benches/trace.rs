@@ -36,7 +36,7 @@ fn lines(scene: &Scene) -> u32 {
 fn retrace(c: &mut Criterion) {
     let scene = light_guide();
     let mut cfg = TraceConfig::from_scene(&scene);
-    cfg.mode = TraceMode::Tree;
+    cfg.settings.mode = TraceMode::Tree;
     let t = trace(&scene, &cfg);
     assert!(t.warnings.is_empty(), "{:?}", t.warnings);
     eprintln!(
@@ -55,7 +55,7 @@ fn retrace(c: &mut Criterion) {
 fn monte_carlo(c: &mut Criterion) {
     let scene = light_guide();
     let mut cfg = TraceConfig::from_scene(&scene);
-    cfg.mode = TraceMode::MonteCarlo;
+    cfg.settings.mode = TraceMode::MonteCarlo;
     // MC_RAYS launched in all, shared over the LED's spectral lines.
     cfg.rays = Some(MC_RAYS / lines(&scene));
     let one = trace(&scene, &TraceConfig { threads: Some(1), ..cfg.clone() });

@@ -3,6 +3,7 @@
 use std::path::{Path, PathBuf};
 
 use raydraft::scene::file::{self, LoadError};
+use raydraft::scene::validate::Severity;
 use raydraft::scene::{Emission, ObjectKind, Scene, Shape, Solid};
 use raydraft::trace::{TraceConfig, trace};
 
@@ -138,6 +139,263 @@ fn infinite_numbers_are_refused_with_their_place() {
 fn warnings_come_back_beside_the_scene() {
     let loaded = file::from_str("(version: 1, objects: [])", "empty.ron").expect("loads");
     assert!(loaded.warnings.iter().any(|w| w.message.contains("no light source")));
+}
+
+/// A scene with one prism and one beam; `prism`, `material` and `line` are spliced in so each
+/// test can misspell one place.
+fn scene_text(settings: &str, material: &str, prism: &str, line: &str) -> String {
+    format!(
+        r#"(
+    version: 1,
+    settings: ({settings}),
+    materials: [(name: "glass", dispersion: {material}, reference: Air, absorption_per_mm: 0.0,
+        valid_nm: (400.0, 700.0), source: "")],
+    objects: [
+        (id: 1, name: "prism", kind: Solid((shape: Prism({prism}), material: "glass"))),
+        (id: 2, name: "beam", kind: BeamSource((center: (-40.0, 5.0), width: 2.0, direction_deg: 0.0,
+            emission: (rays: 3, power_w: 1.0, spectrum: [{line}])))),
+    ],
+)"#
+    )
+}
+
+const PRISM: &str = "position: (0.0, 0.0), apex_deg: 60.0, side: 30.0";
+const CAUCHY: &str = "Cauchy(a: 1.5, b_um2: 0.004, c_um4: 0.0)";
+const LINE: &str = "(nm: 550.0, weight: 1.0)";
+
+#[test]
+fn the_spliced_scene_loads_as_written() {
+    file::from_str(&scene_text("mode: Tree", CAUCHY, PRISM, LINE), "ok.ron").unwrap_or_else(|e| panic!("{e}"));
+}
+
+#[test]
+fn unknown_fields_are_refused_in_every_place_with_their_position() {
+    let cases = [
+        ("shape", scene_text("", CAUCHY, &format!("{PRISM}, rotation_degs: 10.0"), LINE), "rotation_degs", 7),
+        (
+            "material",
+            scene_text("", CAUCHY, PRISM, LINE).replace("absorption_per_mm", "absorbtion_per_mm"),
+            "absorbtion_per_mm",
+            4,
+        ),
+        ("dispersion", scene_text("", "Cauchy(a: 1.5, b_um: 0.004, c_um4: 0.0)", PRISM, LINE), "b_um", 4),
+        ("spectrum line", scene_text("", CAUCHY, PRISM, "(nm: 550.0, wieght: 1.0)"), "wieght", 9),
+        ("settings", scene_text("treshold: 0.01", CAUCHY, PRISM, LINE), "treshold", 3),
+    ];
+    for (place, text, field, line) in cases {
+        let err = file::from_str(&text, "typo.ron").expect_err(place);
+        assert!(matches!(err, LoadError::Syntax { .. }), "{place}: {err}");
+        assert_eq!(err.position().map(|p| p.0), Some(line), "{place}: {err}");
+        assert!(err.to_string().contains(&format!("`{field}`")), "{place}: {err}");
+        assert!(err.to_string().contains("remove the field or correct its spelling"), "{place}: {err}");
+    }
+}
+
+#[test]
+fn a_byte_order_mark_is_skipped() {
+    let text = format!("\u{feff}{}", scene_text("", CAUCHY, PRISM, LINE));
+    file::from_str(&text, "bom.ron").unwrap_or_else(|e| panic!("{e}"));
+}
+
+fn problems_of(text: &str) -> Vec<raydraft::scene::Problem> {
+    match file::from_str(text, "p.ron") {
+        Ok(loaded) => loaded.warnings,
+        Err(LoadError::Invalid { problems, .. }) => problems,
+        Err(e) => panic!("{e}"),
+    }
+}
+
+#[test]
+fn problems_carry_the_object_the_field_a_hint_and_the_place() {
+    let text = scene_text("", CAUCHY, PRISM, "(nm: 550.0, weight: 1.0), (nm: 600.0, weight: -1.0)");
+    let problems = problems_of(&text);
+    let p = problems.iter().find(|p| p.field.as_deref() == Some("emission.spectrum[1].weight")).expect("weight");
+    assert_eq!(p.severity, Severity::Error);
+    assert_eq!(p.object_id(), Some(2));
+    assert_eq!(p.object_name(), Some("beam"));
+    assert_eq!(p.at, Some((8, 9)));
+    assert!(p.to_string().starts_with("error: object 2 \"beam\": a spectral weight must be zero or positive"), "{p}");
+
+    let problems = problems_of(&scene_text("threshold: 2.0", CAUCHY, PRISM, LINE));
+    let p = &problems[0];
+    assert_eq!((p.field.as_deref(), p.object_id(), p.at), (Some("settings.threshold"), None, None), "{p}");
+
+    let problems = problems_of(&scene_text("", CAUCHY, "position: (0.0, 0.0), apex_deg: 200.0, side: 30.0", LINE));
+    assert_eq!(problems[0].field.as_deref(), Some("shape.apex_deg"), "{}", problems[0]);
+
+    let problems = problems_of(&scene_text("", "Cauchy(a: -1.5, b_um2: 0.0, c_um4: 0.0)", PRISM, LINE));
+    let p = &problems[0];
+    assert_eq!(p.field.as_deref(), Some("material"));
+    assert!(p.hint.as_deref().is_some_and(|h| h.contains("pole")), "{p}");
+    assert!(p.to_string().ends_with(&format!("; {}", p.hint.as_deref().unwrap_or_default())), "{p}");
+}
+
+#[test]
+fn check_and_trace_agree_on_an_unusable_index() {
+    // n² − 1 = λ²/(λ² − 0.5²) has its pole at 500 nm; at 450 nm n² < 0.
+    for nm in [500.0, 450.0] {
+        let text = scene_text(
+            "",
+            "SellmeierWavelength(c0: 0.0, terms: [(1.0, 0.5)])",
+            PRISM,
+            &format!("(nm: {nm}, weight: 1.0)"),
+        );
+        let problems = problems_of(&text);
+        assert!(
+            problems.iter().any(|p| p.severity == Severity::Error && p.message.contains("no usable index")),
+            "{nm}"
+        );
+        // The trace uses the same validation: the prism is left out instead of traced as air.
+        let scene: Scene = ron::from_str(&text).expect("parse");
+        let compiled = raydraft::trace::Compiled::new(&scene);
+        assert_eq!(compiled.excluded(), &[1], "{nm}");
+    }
+}
+
+#[test]
+fn an_index_near_a_pole_is_warned_about_with_its_value() {
+    // 1e-9 nm from the pole at 500 nm the index is in the tens of thousands.
+    let text =
+        scene_text("", "SellmeierWavelength(c0: 0.0, terms: [(1.0, 0.499999999)])", PRISM, "(nm: 500.0, weight: 1.0)");
+    let problems = problems_of(&text);
+    let p = problems.iter().find(|p| p.message.contains("outside 0.99–10")).expect("warning");
+    assert_eq!(p.severity, Severity::Warning);
+    assert!(p.message.contains("gives n = "), "{p}");
+}
+
+#[test]
+fn weights_and_powers_must_add_up_to_finite_amounts() {
+    let problems =
+        problems_of(&scene_text("", CAUCHY, PRISM, "(nm: 500.0, weight: 1e308), (nm: 600.0, weight: 1e308)"));
+    assert!(problems.iter().any(|p| p.message.contains("add up to more than the largest number")));
+
+    let text = scene_text("", CAUCHY, PRISM, LINE).replace("power_w: 1.0", "power_w: 1e13");
+    assert!(problems_of(&text).iter().any(|p| p.field.as_deref() == Some("emission.power_w")));
+
+    // 1000 sources of 1e12 W each are each allowed but not together.
+    let mut scene = Scene::new("bright");
+    for k in 0..1001 {
+        scene.add(
+            &format!("lamp {k}"),
+            ObjectKind::BeamSource(raydraft::scene::BeamSource {
+                center: (0.0, f64::from(k)),
+                width: 1.0,
+                direction_deg: 0.0,
+                emission: Emission::new(1, 1e12, 550.0),
+            }),
+        );
+    }
+    let problems = raydraft::scene::validate(&scene);
+    assert!(problems.iter().any(|p| p.message.contains("together")), "{:?}", problems.first());
+}
+
+fn square(scene: &mut Scene, name: &str, at: (f64, f64), side: f64) -> u64 {
+    scene.add(
+        name,
+        ObjectKind::Solid(Solid {
+            shape: Shape::Rectangle { position: at, width: side, height: side, rotation_deg: 0.0 },
+            material: "pmma".to_owned(),
+        }),
+    )
+}
+
+#[test]
+fn coordinates_and_sizes_outside_the_supported_range_are_refused_by_name() {
+    let mut scene = Scene::new("far");
+    square(&mut scene, "near", (0.0, 0.0), 10.0);
+    square(&mut scene, "far square", (1e9, 1e9), 10.0);
+    let problems = raydraft::scene::validate(&scene);
+    let p = problems.iter().find(|p| p.severity == Severity::Error).expect("error");
+    assert_eq!(p.object_name(), Some("far square"), "{p}");
+    assert!(p.message.contains("outside the supported area"), "{p}");
+    assert_eq!(problems.iter().filter(|p| p.severity == Severity::Error).count(), 1, "{problems:?}");
+
+    let mut scene = Scene::new("tiny");
+    square(&mut scene, "block", (0.0, 0.0), 10.0);
+    square(&mut scene, "speck", (20.0, 0.0), 1e-12);
+    let problems = raydraft::scene::validate(&scene);
+    let p = problems.iter().find(|p| p.severity == Severity::Error).expect("error");
+    assert_eq!(p.object_name(), Some("speck"), "{p}");
+    assert!(p.message.contains("too small"), "{p}");
+
+    // At the edge of the range a millimetre part is still fine.
+    let mut scene = Scene::new("edge");
+    square(&mut scene, "block", (9e5, -9e5), 1.0);
+    assert!(raydraft::scene::validate(&scene).iter().all(|p| p.severity == Severity::Warning));
+}
+
+#[test]
+fn absurd_bulges_and_zero_length_pieces_are_refused() {
+    use raydraft::scene::{Mirror, Path as ScenePath};
+    let mirror = |path: ScenePath| ObjectKind::Mirror(Mirror { path, reflectance: 0.9, one_sided: false });
+    let mut scene = Scene::new("bulge");
+    scene.add("m", mirror(ScenePath { points: vec![(0.0, 0.0), (10.0, 0.0)], bulges: vec![1e300] }));
+    let problems = raydraft::scene::validate(&scene);
+    assert!(problems.iter().any(|p| p.field.as_deref() == Some("path.bulges[0]")), "{problems:?}");
+
+    let mut scene = Scene::new("zero");
+    scene.add("m", mirror(ScenePath { points: vec![(0.0, 0.0), (1.0, 0.0), (1.0, 0.0)], bulges: vec![] }));
+    let problems = raydraft::scene::validate(&scene);
+    let p = problems.iter().find(|p| p.severity == Severity::Error).expect("error");
+    assert_eq!(p.field.as_deref(), Some("path.points[2]"), "{p}");
+
+    let mut scene = Scene::new("outline bulge");
+    scene.add(
+        "lens",
+        ObjectKind::Solid(Solid {
+            shape: Shape::Outline { points: vec![(0.0, 0.0), (10.0, 0.0)], bulges: vec![2e6, 1.0] },
+            material: "pmma".to_owned(),
+        }),
+    );
+    let problems = raydraft::scene::validate(&scene);
+    assert!(problems.iter().any(|p| p.field.as_deref() == Some("shape.bulges[0]")), "{problems:?}");
+}
+
+#[test]
+fn coincident_solids_are_warned_about_even_drawn_differently() {
+    let mut scene = Scene::new("twins");
+    square(&mut scene, "a", (0.0, 0.0), 10.0);
+    // The same square as a free outline starting at another corner and running clockwise.
+    scene.add(
+        "b",
+        ObjectKind::Solid(Solid {
+            shape: Shape::Outline { points: vec![(5.0, 5.0), (5.0, -5.0), (-5.0, -5.0), (-5.0, 5.0)], bulges: vec![] },
+            material: "water".to_owned(),
+        }),
+    );
+    square(&mut scene, "c", (0.0, 0.0), 10.5);
+    let problems = raydraft::scene::validate(&scene);
+    let dup: Vec<_> = problems.iter().filter(|p| p.message.contains("same outline")).collect();
+    assert_eq!(dup.len(), 1, "{problems:?}");
+    assert_eq!(dup[0].object_name(), Some("b"));
+    assert!(dup[0].message.contains("\"pmma\"") && dup[0].message.contains("\"water\""), "{}", dup[0]);
+}
+
+#[test]
+fn long_names_are_cut_in_messages() {
+    let mut scene = Scene::new("long");
+    let name = "n".repeat(10_000);
+    scene.add(
+        &name,
+        ObjectKind::Solid(Solid { shape: Shape::Ball { position: (0.0, 0.0), radius: 1.0 }, material: name.clone() }),
+    );
+    for p in raydraft::scene::validate(&scene) {
+        assert!(p.to_string().len() < 600, "{} bytes", p.to_string().len());
+    }
+}
+
+#[test]
+fn files_are_read_with_a_size_limit_and_only_if_regular() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("scenes/prism_fold.ron");
+    let err = file::load_limited(&path, 100).expect_err("too large");
+    assert!(matches!(err, LoadError::TooLarge { limit: 100, .. }), "{err}");
+    assert!(file::load_limited(&path, 1 << 20).is_ok());
+    if cfg!(unix) {
+        let err = file::load("/dev/zero").expect_err("a device");
+        assert!(matches!(err, LoadError::NotAFile { .. }), "{err}");
+    }
+    let err = file::load(env!("CARGO_MANIFEST_DIR")).expect_err("a folder");
+    assert!(err.to_string().contains("is a folder"), "{err}");
 }
 
 /// The text of `scene` written as version 1 would have been: no `next_id`, version 1.

@@ -135,7 +135,7 @@ fn parallel_plate_transmits_one_minus_r_over_one_plus_r() {
         detector(&mut s, "below", (-200.0, -30.0), (250.0, -30.0));
         detector(&mut s, "above", (-200.0, 40.0), (250.0, 40.0));
         let mut c = config(&s, TraceMode::Tree);
-        c.threshold = 1e-14;
+        c.settings.threshold = 1e-14;
         let t = run(&s, &c);
         let below = t.budget.detected[0] / t.budget.launched;
         let above = t.budget.detected[1] / t.budget.launched;
@@ -292,7 +292,7 @@ fn zero_length_edges_and_repeated_vertices_are_harmless() {
     beam(&mut s, (-5.0, 5.0), 0.0, 0.0, 1, Polarization::Unpolarized);
     for mode in [TraceMode::Principal, TraceMode::Tree, TraceMode::MonteCarlo] {
         let t = run(&s, &config(&s, mode));
-        assert!(t.events.iter().all(|e| e.edge != 1 || e.object != 0), "the zero-length edge was hit");
+        assert!(t.events.iter().all(|e| e.edge != 1 || e.object_slot != 0), "the zero-length edge was hit");
     }
 }
 
@@ -314,7 +314,7 @@ fn p_light_at_brewsters_angle_is_not_reflected() {
         // reflected inside the block comes out about 27 mm further right, past the detector.
         detector(&mut s, "reflection", (30.0, 30.0), (60.0, 30.0));
         let mut c = config(&s, TraceMode::Tree);
-        c.threshold = 0.0;
+        c.settings.threshold = 0.0;
         let t = run(&s, &c);
         let r = t.budget.detected[0] / t.budget.launched;
         assert!((r - want).abs() < 1e-5, "{pol:?}: reflected {r} vs {want}");

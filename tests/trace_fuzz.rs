@@ -206,16 +206,16 @@ fn random_scenes_keep_every_invariant() {
         }
         let compiled = Compiled::new(&s);
         // Overlapping solids make the medium ambiguous; validation warns about them.
-        if compiled.warnings.iter().any(|w| w.contains("overlaps")) {
+        if compiled.warnings().iter().any(|w| w.contains("overlaps")) {
             overlapping += 1;
             continue;
         }
         scenes += 1;
-        let edges: Vec<Edge> = compiled.edges.iter().map(|e| e.edge).collect();
+        let edges: Vec<Edge> = compiled.edges().iter().map(|e| e.edge).collect();
         let mode = [TraceMode::Principal, TraceMode::Tree, TraceMode::MonteCarlo][scenes % 3];
         let mut c = TraceConfig::from_scene(&s);
-        c.mode = mode;
-        c.threshold = 1e-3;
+        c.settings.mode = mode;
+        c.settings.threshold = 1e-3;
         let t = trace(&s, &c);
         let err = t.budget.closure_error();
         assert!(err <= 1e-9, "scene {scenes} ({mode:?}): budget closes to {err:e}\n{s:?}");
@@ -271,7 +271,7 @@ fn rays_through_vertices_and_along_edges_stay_consistent() {
         for ray in &t.rays {
             for w in t.events_of(ray).windows(2) {
                 let q = (w[0].point + w[1].point) / 2.0;
-                if compiled.edges.iter().any(|e| distance_to(&e.edge, q) < 1e-6) {
+                if compiled.edges().iter().any(|e| distance_to(&e.edge, q) < 1e-6) {
                     continue;
                 }
                 assert_eq!(compiled.medium_at(q), w[0].medium, "{mode:?}: {:?} → {:?}", w[0], w[1]);

@@ -36,7 +36,7 @@ fn escape_cone_fraction_by_monte_carlo() {
         let rays = 40_000;
         let s = slab_with_lamp(n, rays);
         let mut c = config(&s, TraceMode::MonteCarlo);
-        c.seed = 20261202;
+        c.settings.seed = 20261202;
         let t = run(&s, &c);
         let got = t.budget.detected_total() / t.budget.launched;
         let tol = 4.0 * (p * (1.0 - p) / f64::from(rays)).sqrt();
@@ -53,7 +53,7 @@ fn escape_cone_fraction_in_tree_mode() {
     let (n, p) = (1.5, 0.464559);
     let s = slab_with_lamp(n, 3600);
     let mut c = config(&s, TraceMode::Tree);
-    c.threshold = 1e-7;
+    c.settings.threshold = 1e-7;
     let t = run(&s, &c);
     let got = t.budget.detected_total() / t.budget.launched;
     assert!((got - p).abs() < 2e-3, "escaped {got} vs {p}");
@@ -69,8 +69,8 @@ fn first_pass_transmission_with_fresnel() {
             ps.emission.polarization = pol;
         }
         let mut c = config(&s, TraceMode::Tree);
-        c.max_depth = 2; // launch → first face → detector
-        c.threshold = 0.0;
+        c.settings.max_depth = 2; // launch → first face → detector
+        c.settings.threshold = 0.0;
         let t = run(&s, &c);
         let got = t.budget.detected_total() / t.budget.launched;
         assert!((got - want).abs() < 2e-4, "{pol:?}: first pass {got} vs {want}");
@@ -177,7 +177,7 @@ fn monte_carlo_is_reproducible_and_seed_dependent() {
     let b = trace(&s, &c);
     assert_eq!(a.events, b.events);
     let mut c2 = c.clone();
-    c2.seed += 1;
+    c2.settings.seed += 1;
     let d = trace(&s, &c2);
     assert_ne!(a.events, d.events);
 }
@@ -188,7 +188,7 @@ fn events_are_compact_and_the_cap_holds() {
     assert!(std::mem::size_of::<Event>() <= 64, "Event is {} bytes", std::mem::size_of::<Event>());
     let s = slab_with_lamp(1.5, 3000);
     let mut c = config(&s, TraceMode::Tree);
-    c.max_stored_events = 1000;
+    c.settings.max_stored_events = 1000;
     let t = trace(&s, &c);
     assert!(t.events.len() <= 1000);
     assert!(t.events_truncated);
@@ -242,7 +242,7 @@ fn lambertian_emitter_in_a_slab_escapes_one_over_n() {
             }),
         );
         let mut c = config(&s, TraceMode::MonteCarlo);
-        c.seed = 7;
+        c.settings.seed = 7;
         let t = run(&s, &c);
         let got = t.budget.detected_total() / t.budget.launched;
         let tol = 4.0 * (want * (1.0 - want) / f64::from(rays)).sqrt();
@@ -280,7 +280,7 @@ fn thin_elements_share_power_exactly_in_tree_mode() {
     detector(&mut s, "ahead", (40.0, -10.0), (40.0, 10.0));
     detector(&mut s, "bottom", (0.0, -30.0), (30.0, -30.0));
     let mut c = config(&s, TraceMode::Tree);
-    c.threshold = 0.0;
+    c.settings.threshold = 0.0;
     let t = run(&s, &c);
     let l = t.budget.launched;
     // Ahead: transmitted directly, 0.5. Up: 0.3, the mirror returns 0.27 down to the

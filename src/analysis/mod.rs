@@ -1,8 +1,18 @@
 //! Turning a [`Trace`] into numbers people read: the power budget by named sink, and
 //! detector histograms. Pure functions of the scene and the trace.
 
+pub mod escape;
+pub mod explain;
+pub mod sweep;
+pub mod uniformity;
+
+pub use escape::{EdgeShare, EscapeCone, EscapeError, EscapedByEdge, escape_cone, escape_cone_with, escaped_by_edge};
+pub use explain::{RayExplanation, Step, Surface, explain_ray, surface_edge};
+pub use sweep::{Metric, ParamPath, SweepError, sweep, sweep_with};
+pub use uniformity::{Uniformity, detector_uniformity, uniformity};
+
 use crate::scene::{ObjectKind, Scene};
-use crate::trace::{Compiled, DetectorResult, Trace};
+use crate::trace::{DetectorResult, Trace};
 
 /// One bin of a histogram: its centre and the power density in it.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -44,10 +54,23 @@ fn histogram(samples: impl Iterator<Item = (f64, f64)>, low: f64, high: f64, bin
 
 /// The histogram sizes the scene asks for on detector `det`: (position bins, angle bins).
 pub fn detector_bins(scene: &Scene, det: &DetectorResult) -> (u32, u32) {
-    match scene.objects.get(det.object as usize).map(|o| &o.kind) {
+    match scene.object(det.object).map(|o| &o.kind) {
         Some(ObjectKind::Detector(d)) => (d.bins, d.angle_bins),
         _ => (50, 50),
     }
+}
+
+/// One named part of the budget: a detector, a thin element that absorbs, or a medium.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Sink {
+    /// The object (as in the file): the detector, the thin element, or the solid whose
+    /// medium absorbed; `None` for the ambient medium.
+    pub object_id: Option<u64>,
+    /// The object's name (for the ambient medium, its material).
+    pub name: String,
+    /// How people read it: `by absorber "stop"`, `in block (pmma)`, or the detector's name.
+    pub label: String,
+    pub power_w: f64,
 }
 
 /// Where the launched power went, with every sink named for people.
@@ -57,47 +80,60 @@ pub struct BudgetReport {
     pub escaped_w: f64,
     /// All absorption: media, absorbers, mirror and splitter losses.
     pub absorbed_w: f64,
-    /// The nonzero parts of `absorbed_w`, by medium ("medium …") or thin element.
-    pub absorbed_by: Vec<(String, f64)>,
+    /// The nonzero parts of `absorbed_w`: media first (in medium order), then thin elements
+    /// (in scene order).
+    pub absorbed_by: Vec<Sink>,
     pub trapped_w: f64,
     pub below_threshold_w: f64,
-    /// Power on each detector, by name, in scene order.
-    pub detected: Vec<(String, f64)>,
+    /// Power on each detector, in scene order.
+    pub detected: Vec<Sink>,
     pub closure_error: f64,
 }
 
-/// Names the media of a compiled scene: the ambient medium, then each solid by object name
-/// and material.
-pub fn medium_labels(scene: &Scene, compiled: &Compiled) -> Vec<String> {
-    let mut labels = vec![format!("ambient {}", scene.ambient)];
-    for (k, s) in compiled.solids.iter().enumerate() {
-        let name = scene.objects.get(s.object as usize).map_or("?", |o| o.name.as_str());
-        let material = compiled.medium_names.get(k + 1).map_or("?", String::as_str);
-        labels.push(format!("{name} ({material})"));
+/// Names the media of a trace: the ambient medium by its material, then each solid by
+/// object name and material.
+pub fn medium_labels(trace: &Trace) -> Vec<String> {
+    let material = |m: usize| trace.medium_names.get(m).map_or("?", String::as_str);
+    let mut labels = vec![format!("ambient {}", material(0))];
+    for (m, id) in trace.medium_objects.iter().enumerate().skip(1) {
+        let name = id.and_then(|id| trace.object(id)).map_or("?", |o| o.name.as_str());
+        labels.push(format!("{name} ({})", material(m)));
     }
     labels
 }
 
-/// The budget of `trace`, with media and objects named.
-pub fn budget_report(scene: &Scene, compiled: &Compiled, trace: &Trace) -> BudgetReport {
+/// The budget of `trace`, with media and objects named, from what the trace recorded (the
+/// scene need not be compiled again).
+pub fn budget_report(trace: &Trace) -> BudgetReport {
     let b = &trace.budget;
-    let labels = medium_labels(scene, compiled);
+    let labels = medium_labels(trace);
     let mut absorbed_by = Vec::new();
     for (m, w) in b.absorbed_in_media.iter().enumerate() {
         if *w > 0.0 {
+            let object_id = trace.medium_objects.get(m).copied().flatten();
+            let name = match object_id.and_then(|id| trace.object(id)) {
+                Some(o) => o.name.clone(),
+                None => trace.medium_names.get(m).cloned().unwrap_or_default(),
+            };
             let label = labels.get(m).cloned().unwrap_or_else(|| format!("medium {m}"));
-            absorbed_by.push((format!("in {label}"), *w));
+            absorbed_by.push(Sink { object_id, name, label: format!("in {label}"), power_w: *w });
         }
     }
-    for (i, w) in b.absorbed_by_object.iter().enumerate() {
-        if *w > 0.0 {
-            let label = scene
-                .objects
-                .get(i)
-                .map_or_else(|| format!("object {i}"), |o| format!("by {} \"{}\"", o.kind.word(), o.name));
-            absorbed_by.push((label, *w));
+    for &(id, w) in &b.absorbed_by_object {
+        if w > 0.0 {
+            let (name, label) = trace.object(id).map_or_else(
+                || (String::new(), format!("object {id}")),
+                |o| (o.name.clone(), format!("by {} \"{}\"", o.kind, o.name)),
+            );
+            absorbed_by.push(Sink { object_id: Some(id), name, label, power_w: w });
         }
     }
+    let detected = trace
+        .detectors
+        .iter()
+        .zip(&b.detected)
+        .map(|(d, w)| Sink { object_id: Some(d.object), name: d.name.clone(), label: d.name.clone(), power_w: *w })
+        .collect();
     BudgetReport {
         launched_w: b.launched,
         escaped_w: b.escaped,
@@ -105,7 +141,7 @@ pub fn budget_report(scene: &Scene, compiled: &Compiled, trace: &Trace) -> Budge
         absorbed_by,
         trapped_w: b.trapped,
         below_threshold_w: b.below_threshold,
-        detected: trace.detectors.iter().zip(&b.detected).map(|(d, w)| (d.name.clone(), *w)).collect(),
+        detected,
         closure_error: b.closure_error(),
     }
 }

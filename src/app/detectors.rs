@@ -15,7 +15,7 @@ fn at_wavelength(d: &DetectorResult, nm: f64) -> DetectorResult {
 
 fn plot_ui(
     ui: &mut egui::Ui,
-    id: (&str, u32),
+    id: (&str, u64),
     x_label: &str,
     y_label: &str,
     lines: Vec<(String, [u8; 3], Vec<[f64; 2]>)>,

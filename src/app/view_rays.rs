@@ -109,7 +109,8 @@ impl RayCache {
             .filter(|e| matches!(e.kind, EventKind::Tir | EventKind::Limit | EventKind::Dropped))
             .count();
         let mark_stride = n_marks.div_ceil(MAX_MARKS).max(1);
-        let tir_alpha = (300.0 / n_marks.max(1) as f32).sqrt().clamp(0.15, 0.8);
+        let tir_alpha = (300.0 / n_marks.max(1) as f32).sqrt().clamp(0.1, 0.8);
+        let tir_radius = if n_marks > 2000 { 1.4 } else { 2.0 };
         let mut mark_k = 0usize;
         let clip = view.rect.expand(50.0);
         let mut n_drawn = 0;
@@ -143,7 +144,11 @@ impl RayCache {
                 if is_mark && mark_k % mark_stride == 0 && clip.contains(here) {
                     match e.kind {
                         EventKind::Tir => {
-                            marks.push(Shape::circle_filled(here, 2.0, rgb(palette::TIR).gamma_multiply(tir_alpha)));
+                            marks.push(Shape::circle_filled(
+                                here,
+                                tir_radius,
+                                rgb(palette::TIR).gamma_multiply(tir_alpha),
+                            ));
                         }
                         EventKind::Limit => marks.push(Shape::rect_filled(
                             Rect::from_center_size(here, EVec2::splat(5.0)),

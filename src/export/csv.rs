@@ -14,8 +14,7 @@ use crate::trace::{EventKind, NONE, Trace};
 pub const DETECTOR_HEADER: &str = "detector,bin,position_mm,irradiance_w_per_mm,angle_deg,intensity_w_per_deg";
 
 /// Header of the event table.
-pub const EVENT_HEADER: &str =
-    "ray,parent,x_mm,y_mm,direction_deg,wavelength_nm,power_s_w,power_p_w,kind,object,edge,n1,n2,incidence_deg";
+pub const EVENT_HEADER: &str = "ray,parent,x_mm,y_mm,direction_deg,wavelength_nm,power_s_w,power_p_w,kind,object_id,object,edge,n1,n2,incidence_deg";
 
 /// Quotes a text field if it needs it.
 fn field(text: &str) -> String {
@@ -60,8 +59,11 @@ pub fn detectors(scene: &Scene, trace: &Trace) -> String {
 ///   It is empty for a ray with a single event.
 /// - `power_s_w`, `power_p_w` are the power carried on from the event; at an event that ends
 ///   the ray (absorb, detect, escape, limit, dropped) they are the power that arrived there.
-/// - `parent` is empty for a launched ray; `object` is the object's name, empty if none.
-pub fn events(scene: &Scene, trace: &Trace) -> String {
+/// - `parent` is empty for a launched ray; `object_id` is the object's id as in the scene
+///   file and `object` its name, both empty if none.
+/// - `edge` is the edge's number in the object as the file gives it (a free outline's edges
+///   in the order its points are written, whichever way round they run), empty if none.
+pub fn events(trace: &Trace) -> String {
     let mut out = String::new();
     let _ = writeln!(out, "{EVENT_HEADER}");
     for ray in &trace.rays {
@@ -77,15 +79,13 @@ pub fn events(scene: &Scene, trace: &Trace) -> String {
             let direction = direction.and_then(angle_deg).map_or_else(String::new, |a| a.to_string());
             let (s, p) = if e.kind.is_end() { (e.before_s, e.before_p) } else { (e.after_s, e.after_p) };
             let parent = if ray.parent == NONE { String::new() } else { ray.parent.to_string() };
-            let object = if e.object == NONE {
-                String::new()
-            } else {
-                scene.objects.get(e.object as usize).map_or_else(String::new, |o| field(&o.name))
-            };
+            let (object_id, object) = trace
+                .object_of(e)
+                .map_or_else(|| (String::new(), String::new()), |o| (o.id.to_string(), field(&o.name)));
             let edge = if e.edge == NONE { String::new() } else { e.edge.to_string() };
             let _ = writeln!(
                 out,
-                "{},{parent},{},{},{direction},{},{s},{p},{},{object},{edge},{},{},{}",
+                "{},{parent},{},{},{direction},{},{s},{p},{},{object_id},{object},{edge},{},{},{}",
                 ray.id,
                 e.point.x,
                 e.point.y,

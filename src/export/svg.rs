@@ -25,11 +25,14 @@ pub struct SvgOptions {
     /// Largest width and height of the picture in pixels.
     pub max_width_px: f64,
     pub max_height_px: f64,
+    /// Draw the normals, angles of incidence and critical angles along this stored ray
+    /// (a position in `trace.rays`); see [`crate::export::annotate`].
+    pub annotate_ray: Option<usize>,
 }
 
 impl Default for SvgOptions {
     fn default() -> Self {
-        Self { max_rays: 20_000, max_tir_marks: 3_000, max_width_px: 1200.0, max_height_px: 800.0 }
+        Self { max_rays: 20_000, max_tir_marks: 3_000, max_width_px: 1200.0, max_height_px: 800.0, annotate_ray: None }
     }
 }
 
@@ -82,12 +85,48 @@ fn source_geometry(kind: &ObjectKind) -> Option<Vec<Vec2>> {
     }
 }
 
-/// The picture as SVG text.
-#[allow(clippy::too_many_lines)]
-pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
-    // Bounds of everything drawn.
-    let mut bounds = Aabb::EMPTY;
-    let outlines: Vec<(usize, Vec<Vec2>)> = scene
+/// Where the picture sits: the view box in scene millimetres (y flipped) and the pixel
+/// scale.
+struct Frame {
+    /// View box: left, top (flipped y), width and height, mm.
+    vx: f64,
+    vy: f64,
+    vw: f64,
+    vh: f64,
+    /// Pixels per mm.
+    scale: f64,
+    /// Font size, mm.
+    font: f64,
+}
+
+impl Frame {
+    /// Lays out a picture showing `bounds`, with room for the legend above.
+    fn new(bounds: Aabb, options: &SvgOptions) -> Self {
+        let bounds = if bounds.is_empty() {
+            Aabb::from_points([Vec2::new(-10.0, -10.0), Vec2::new(10.0, 10.0)])
+        } else {
+            bounds
+        };
+        let size = bounds.size();
+        let pad = 0.03 * size.x.max(size.y).max(1.0);
+        let bounds = bounds.expanded(pad);
+        let size = bounds.size();
+        let scale = (options.max_width_px / size.x).min(options.max_height_px / size.y);
+        let font = 13.0 / scale;
+        let header_lines = 5.0;
+        let header = font * 1.5 * header_lines + 6.0 / scale;
+        Self { vx: bounds.min.x, vy: -bounds.max.y - header, vw: size.x, vh: size.y + header, scale, font }
+    }
+
+    /// A length of `n` pixels, in mm.
+    fn px(&self, n: f64) -> f64 {
+        n / self.scale
+    }
+}
+
+/// The outlines of the solids that have one, as polylines, with their object's position.
+fn solid_points(scene: &Scene) -> Vec<(usize, Vec<Vec2>)> {
+    scene
         .solid_outlines()
         .into_iter()
         .filter_map(|(i, o)| {
@@ -99,84 +138,104 @@ pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
             }
             Some((i, pts))
         })
-        .collect();
-    for (_, pts) in &outlines {
+        .collect()
+}
+
+/// The points a thin element or source is drawn through (none for a solid).
+fn element_points(kind: &ObjectKind) -> Vec<Vec2> {
+    match kind {
+        ObjectKind::Mirror(m) => path_points(&m.path),
+        ObjectKind::Absorber(a) => path_points(&a.path),
+        ObjectKind::Splitter(s) => path_points(&s.path),
+        ObjectKind::Detector(d) => path_points(&d.path),
+        kind => source_geometry(kind)
+            .map(|mut g| {
+                if matches!(kind, ObjectKind::BeamSource(_)) {
+                    g.truncate(2);
+                }
+                g
+            })
+            .unwrap_or_default(),
+    }
+}
+
+/// Bounds of everything drawn: solids, elements and sources, and the rays drawn.
+fn drawing_bounds(scene: &Scene, outlines: &[(usize, Vec<Vec2>)], trace: &Trace, n_drawn: usize) -> Aabb {
+    let mut bounds = Aabb::EMPTY;
+    for (_, pts) in outlines {
         for p in pts {
             bounds.include(*p);
         }
     }
     for o in &scene.objects {
-        let pts = match &o.kind {
-            ObjectKind::Mirror(m) => path_points(&m.path),
-            ObjectKind::Absorber(a) => path_points(&a.path),
-            ObjectKind::Splitter(s) => path_points(&s.path),
-            ObjectKind::Detector(d) => path_points(&d.path),
-            kind => source_geometry(kind)
-                .map(|mut g| {
-                    if matches!(kind, ObjectKind::BeamSource(_)) {
-                        g.truncate(2);
-                    }
-                    g
-                })
-                .unwrap_or_default(),
-        };
-        for p in pts.iter().filter(|p| p.x.is_finite() && p.y.is_finite()) {
+        for p in element_points(&o.kind).iter().filter(|p| p.x.is_finite() && p.y.is_finite()) {
             bounds.include(*p);
         }
     }
-    let n_drawn = trace.rays.len().min(options.max_rays);
     for e in trace.rays.iter().take(n_drawn).flat_map(|r| trace.events_of(r)) {
         bounds.include(e.point);
     }
-    if bounds.is_empty() {
-        bounds = Aabb::from_points([Vec2::new(-10.0, -10.0), Vec2::new(10.0, 10.0)]);
-    }
-    let size = bounds.size();
-    let pad = 0.03 * size.x.max(size.y).max(1.0);
-    let bounds = bounds.expanded(pad);
-    let size = bounds.size();
-    let scale = (options.max_width_px / size.x).min(options.max_height_px / size.y);
-    let px = |n: f64| n / scale; // a length of n pixels, in mm
-    let font = px(13.0);
-    let header_lines = 5.0;
-    let header = font * 1.5 * header_lines + px(6.0);
-    let (vx, vy, vw, vh) = (bounds.min.x, -bounds.max.y - header, size.x, size.y + header);
+    bounds
+}
 
+/// The picture as SVG text.
+pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
+    let outlines = solid_points(scene);
+    let n_drawn = trace.rays.len().min(options.max_rays);
+    let f = Frame::new(drawing_bounds(scene, &outlines, trace, n_drawn), options);
     let mut out = String::new();
+    write_header(&mut out, scene, &f);
+    // Everything in scene coordinates goes in this group: y is flipped.
+    let _ = writeln!(out, r#"<g transform="scale(1,-1)" stroke-linejoin="round" stroke-linecap="round">"#);
+    write_solids(&mut out, scene, &outlines, &f);
+    write_elements(&mut out, scene, &f);
+    write_rays(&mut out, trace, n_drawn, &f);
+    let n_tir = write_tir_marks(&mut out, trace, n_drawn, options.max_tir_marks, &f);
+    if let Some(k) = options.annotate_ray {
+        out.push_str(&crate::export::annotate::ray_annotations(scene, trace, k, f.px(1.0)));
+    }
+    let _ = writeln!(out, "</g>");
+    legend(&mut out, scene, trace, n_drawn, n_tir, &f);
+    let _ = writeln!(out, "</svg>");
+    out
+}
+
+/// The XML declaration, the `<svg>` element with its view box, the title and a white
+/// background.
+fn write_header(out: &mut String, scene: &Scene, f: &Frame) {
     let _ = writeln!(out, r#"<?xml version="1.0" encoding="UTF-8"?>"#);
     let _ = writeln!(
         out,
         r#"<svg xmlns="http://www.w3.org/2000/svg" width="{}" height="{}" viewBox="{} {} {} {}">"#,
-        (vw * scale).round(),
-        (vh * scale).round(),
-        num(vx),
-        num(vy),
-        num(vw),
-        num(vh)
+        (f.vw * f.scale).round(),
+        (f.vh * f.scale).round(),
+        num(f.vx),
+        num(f.vy),
+        num(f.vw),
+        num(f.vh)
     );
     let _ =
         writeln!(out, "<title>{}</title>", xml(if scene.title.is_empty() { "Raydraft scene" } else { &scene.title }));
     let _ = writeln!(
         out,
         r#"<rect x="{}" y="{}" width="{}" height="{}" fill="{}"/>"#,
-        num(vx),
-        num(vy),
-        num(vw),
-        num(vh),
+        num(f.vx),
+        num(f.vy),
+        num(f.vw),
+        num(f.vh),
         hex(palette::SHEET)
     );
-    // Everything in scene coordinates goes in this group: y is flipped.
-    let _ = writeln!(out, r#"<g transform="scale(1,-1)" stroke-linejoin="round" stroke-linecap="round">"#);
+}
 
-    // Solids.
+fn write_solids(out: &mut String, scene: &Scene, outlines: &[(usize, Vec<Vec2>)], f: &Frame) {
     let _ = writeln!(
         out,
         r#"<g id="solids" fill-opacity="{}" stroke="{}" stroke-width="{}">"#,
         palette::SOLID_FILL_OPACITY,
         hex(palette::SOLID_STROKE),
-        num(px(1.2))
+        num(f.px(1.2))
     );
-    for (i, pts) in &outlines {
+    for (i, pts) in outlines {
         let o = &scene.objects[*i];
         let material = match &o.kind {
             ObjectKind::Solid(s) => s.material.as_str(),
@@ -192,8 +251,11 @@ pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
         );
     }
     let _ = writeln!(out, "</g>");
+}
 
-    // Thin elements and sources.
+/// Thin elements and sources.
+fn write_elements(out: &mut String, scene: &Scene, f: &Frame) {
+    let px = |n: f64| f.px(n);
     let _ = writeln!(out, r#"<g id="elements" fill="none">"#);
     for o in &scene.objects {
         let title = format!("<title>{} ({})</title>", xml(&o.name), o.kind.word());
@@ -225,7 +287,7 @@ pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
                 ),
             ),
             kind => {
-                source_ui(&mut out, kind, &title, &px);
+                source_ui(out, kind, &title, &px);
                 continue;
             }
         };
@@ -233,8 +295,10 @@ pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
         let _ = writeln!(out, r#"<polyline points="{}" {style}>{title}</polyline>"#, points_attr(&pts));
     }
     let _ = writeln!(out, "</g>");
+}
 
-    // Rays.
+/// The first `n_drawn` rays, as polylines whose opacity follows their power.
+fn write_rays(out: &mut String, trace: &Trace, n_drawn: usize, f: &Frame) {
     let index_of: HashMap<u32, usize> = trace.rays.iter().enumerate().map(|(k, r)| (r.id, k)).collect();
     let launch_power = |mut k: usize| -> f64 {
         for _ in 0..10_000 {
@@ -250,7 +314,7 @@ pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
     // Many overlapping rays would saturate: the full opacity falls as launched rays grow.
     let n_roots = trace.rays.iter().take(n_drawn).filter(|r| r.parent == NONE).count().max(1);
     let base = palette::ray_base_opacity(n_roots);
-    let _ = writeln!(out, r#"<g id="rays" fill="none" stroke-width="{}">"#, num(px(1.0)));
+    let _ = writeln!(out, r#"<g id="rays" fill="none" stroke-width="{}">"#, num(f.px(1.0)));
     for (k, ray) in trace.rays.iter().enumerate().take(n_drawn) {
         let evs = trace.events_of(ray);
         if evs.len() < 2 {
@@ -269,34 +333,34 @@ pub fn render(scene: &Scene, trace: &Trace, options: &SvgOptions) -> String {
         for i in 0..evs.len() - 1 {
             let l = level_of(i);
             if l != level && run.len() > 1 {
-                ray_polyline(&mut out, &run, &colour, level, base);
+                ray_polyline(out, &run, &colour, level, base);
                 run = vec![evs[i].point];
             }
             level = l;
             run.push(evs[i + 1].point);
         }
-        ray_polyline(&mut out, &run, &colour, level, base);
+        ray_polyline(out, &run, &colour, level, base);
     }
     let _ = writeln!(out, "</g>");
+}
 
-    // TIR points.
+/// Marks the points of total internal reflection on the drawn rays (at most `max_marks`);
+/// returns how many were marked.
+fn write_tir_marks(out: &mut String, trace: &Trace, n_drawn: usize, max_marks: usize, f: &Frame) -> usize {
     let _ = writeln!(out, r#"<g id="tir" fill="{}" fill-opacity="0.6">"#, hex(palette::TIR));
     let mut n_tir = 0;
     'rays: for ray in trace.rays.iter().take(n_drawn) {
         for e in trace.events_of(ray).iter().filter(|e| e.kind == EventKind::Tir) {
-            if n_tir >= options.max_tir_marks {
+            if n_tir >= max_marks {
                 break 'rays;
             }
-            let _ = writeln!(out, r#"<circle cx="{}" cy="{}" r="{}"/>"#, num(e.point.x), num(e.point.y), num(px(1.2)));
+            let _ =
+                writeln!(out, r#"<circle cx="{}" cy="{}" r="{}"/>"#, num(e.point.x), num(e.point.y), num(f.px(1.2)));
             n_tir += 1;
         }
     }
     let _ = writeln!(out, "</g>");
-    let _ = writeln!(out, "</g>");
-
-    legend(&mut out, scene, trace, n_drawn, n_tir, (vx, vy), font, &px);
-    let _ = writeln!(out, "</svg>");
-    out
+    n_tir
 }
 
 fn ray_polyline(out: &mut String, run: &[Vec2], colour: &str, level: f64, base: f64) {
@@ -377,17 +441,10 @@ fn source_ui(out: &mut String, kind: &ObjectKind, title: &str, px: &dyn Fn(f64) 
     }
 }
 
-#[allow(clippy::too_many_arguments)]
-fn legend(
-    out: &mut String,
-    scene: &Scene,
-    trace: &Trace,
-    n_drawn: usize,
-    n_tir: usize,
-    origin: (f64, f64),
-    font: f64,
-    px: &dyn Fn(f64) -> f64,
-) {
+/// The title, a line of figures and the key, above the drawing.
+fn legend(out: &mut String, scene: &Scene, trace: &Trace, n_drawn: usize, n_tir: usize, f: &Frame) {
+    let (origin, font) = ((f.vx, f.vy), f.font);
+    let px = |n: f64| f.px(n);
     let x0 = origin.0 + px(8.0);
     let line = |k: f64| origin.1 + px(4.0) + font * (1.1 + 1.5 * k);
     let _ = writeln!(out, r##"<g id="legend" font-family="sans-serif" font-size="{}" fill="#222222">"##, num(font));

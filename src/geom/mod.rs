@@ -6,14 +6,22 @@
 //! outward for a counter-clockwise outline. Nothing here knows about optics.
 
 mod aabb;
+mod boxtree;
 mod bvh;
 mod edge;
 mod outline;
+mod point_edge;
+mod ray_arc;
+mod ray_segment;
 
 pub use aabb::Aabb;
+pub use boxtree::BoxTree;
 pub use bvh::{Bvh, BvhHit};
 pub use edge::{ArcGeom, Edge, EdgeHit};
-pub use outline::{Outline, OutlineError};
+pub use outline::{Outline, OutlineError, crossing_pairs};
+pub use point_edge::{EdgeProjection, project_point_on_edge};
+pub use ray_arc::{ArcRay, ray_arc};
+pub use ray_segment::{ray_segment, right_normal};
 
 /// A point or a direction in the plane, in millimetres.
 pub type Vec2 = nalgebra::Vector2<f64>;

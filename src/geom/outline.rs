@@ -1,4 +1,4 @@
-use super::{Aabb, Edge, Vec2, cross};
+use super::{Aabb, BoxTree, Edge, Vec2, cross};
 
 /// The most vertices one outline may have (a notched light guide with 10 000 notches has
 /// about 30 000).
@@ -75,6 +75,20 @@ impl Outline {
     /// Winding number of the outline around `p` (arcs included). Points exactly on an edge
     /// may count either way.
     pub fn winding(&self, p: Vec2) -> i32 {
+        // The winding is that of the chord polygon plus that of each arc's circular segment.
+        // A point exactly on an arc's chord (a ball's centre line, say) lies between the two
+        // and would count in neither: move it off the chord, towards the arc, by a distance
+        // far below any tolerance of the scene.
+        let mut p = p;
+        for e in self.edges() {
+            if let Some(arc) = e.arc() {
+                let d = e.b - e.a;
+                if cross(d, p - e.a) == 0.0 && (p - arc.center).norm_squared() < arc.radius * arc.radius {
+                    p += Vec2::new(d.y, -d.x) * (arc.side * 1e-12);
+                    break;
+                }
+            }
+        }
         let n = self.vertices.len();
         let mut w = 0;
         for i in 0..n {
@@ -118,21 +132,25 @@ impl Outline {
             let y = bb.min.y + (bb.max.y - bb.min.y) * frac;
             let origin = Vec2::new(bb.min.x - 1.0 - bb.extent(), y);
             let dir = Vec2::new(1.0, 0.0);
-            let mut ts: Vec<f64> = self
-                .edges()
-                .flat_map(|e| {
-                    let mut v = Vec::new();
-                    let mut t0 = 0.0;
-                    while let Some(h) = e.cast(origin, dir, t0, f64::INFINITY) {
-                        v.push(h.t);
-                        t0 = h.t;
-                        if v.len() > 2 {
-                            break;
-                        }
+            let mut ts: Vec<f64> = Vec::new();
+            for e in self.edges() {
+                // A straight edge wholly above or below the line cannot be met (the margin
+                // covers the end-point tolerance of the cast).
+                let margin = 1e-9 * (e.b - e.a).norm();
+                if !e.is_arc() && (e.a.y.min(e.b.y) > y + margin || e.a.y.max(e.b.y) < y - margin) {
+                    continue;
+                }
+                let mut t0 = 0.0;
+                let mut found = 0;
+                while let Some(h) = e.cast(origin, dir, t0, f64::INFINITY) {
+                    ts.push(h.t);
+                    t0 = h.t;
+                    found += 1;
+                    if found > 2 {
+                        break;
                     }
-                    v
-                })
-                .collect();
+                }
+            }
             ts.sort_by(f64::total_cmp);
             for w in ts.windows(2) {
                 let width = w[1] - w[0];
@@ -154,6 +172,11 @@ impl Outline {
     /// Checks that the outline is usable: enough finite vertices, matching bulges, non-zero
     /// area and no crossing edges (arcs are checked as fine polylines).
     pub fn validate(&self) -> Result<(), OutlineError> {
+        self.validate_with_box().map(|_| ())
+    }
+
+    /// [`Outline::validate`], giving the outline's bounding box when it is usable.
+    pub fn validate_with_box(&self) -> Result<Aabb, OutlineError> {
         let n = self.vertices.len();
         if n > MAX_VERTICES {
             return Err(OutlineError::TooManyVertices(n));
@@ -175,46 +198,134 @@ impl Outline {
         if area.abs() <= 1e-12 * bb.extent().powi(2).max(1e-300) || !area.is_finite() {
             return Err(OutlineError::ZeroArea);
         }
-        if let Some((i, j, p)) = self.first_crossing() {
+        if let Some((i, j, p)) = self.first_crossing(&bb) {
             return Err(OutlineError::SelfIntersecting(i, j, p.x, p.y));
         }
-        Ok(())
+        Ok(bb)
+    }
+
+    /// Validates this outline knowing that `before` (with bounding box `before_box`) was
+    /// valid and that this one came from it by moving a few vertices or bending a few
+    /// edges: only pairs involving a changed edge can cross now, so only those are tested,
+    /// in O(n) rather than a full check. Returns the bounding box if the outline is surely
+    /// valid; `None` when this shortcut does not apply (another vertex count, many changed
+    /// edges, another bounding box, which changes the tolerance) or finds a fault, so the
+    /// caller runs [`Outline::validate`] (which also words the fault the same way).
+    pub fn validate_edited(&self, before: &Outline, before_box: &Aabb) -> Option<Aabb> {
+        const MOST_CHANGED: usize = 8;
+        let n = self.vertices.len();
+        if n != before.vertices.len() || self.bulges.len() != n || before.bulges.len() != n || n < 3 {
+            return None;
+        }
+        let mut changed = Vec::new();
+        for i in 0..n {
+            let j = (i + 1) % n;
+            if self.vertices[i] != before.vertices[i]
+                || self.vertices[j] != before.vertices[j]
+                || self.bulges[i] != before.bulges[i]
+            {
+                if changed.len() == MOST_CHANGED
+                    || !(super::is_finite(self.vertices[i]) && super::is_finite(self.vertices[j]))
+                    || !self.bulges[i].is_finite()
+                {
+                    return None;
+                }
+                changed.push(i);
+            }
+        }
+        let bb = self.aabb();
+        if bb != *before_box {
+            return None;
+        }
+        let area = self.signed_area();
+        if area.abs() <= 1e-12 * bb.extent().powi(2).max(1e-300) || !area.is_finite() {
+            return None;
+        }
+        let tol = 1e-9 * bb.extent();
+        let mut mine = Vec::new();
+        for &i in &changed {
+            let e = self.edge(i);
+            for w in e.polyline(2f64.to_radians()).windows(2) {
+                mine.push((i, w[0], w[1]));
+            }
+        }
+        let reach = mine.iter().fold(Aabb::EMPTY, |acc, p| acc.union(&piece_box(p, tol)));
+        let mut theirs = Vec::new();
+        for (k, e) in self.edges().enumerate() {
+            if !e.aabb().expanded(tol).overlaps(&reach) {
+                continue;
+            }
+            theirs.clear();
+            if e.is_arc() {
+                theirs.extend(e.polyline(2f64.to_radians()).windows(2).map(|w| (w[0], w[1])));
+            } else {
+                theirs.push((e.a, e.b));
+            }
+            for &(ei, a1, b1) in &mine {
+                let adjacent = ei == k || (ei + 1) % n == k || (k + 1) % n == ei;
+                let bi = piece_box(&(ei, a1, b1), tol);
+                for &(a2, b2) in &theirs {
+                    if bi.overlaps(&piece_box(&(k, a2, b2), tol))
+                        && segments_cross(a1, b1, a2, b2, tol, adjacent).is_some()
+                    {
+                        return None;
+                    }
+                }
+            }
+        }
+        Some(bb)
     }
 
     /// The first pair of non-adjacent edges that cross, with the crossing point. Arcs are
-    /// replaced by polylines with a point every 2°.
-    fn first_crossing(&self) -> Option<(usize, usize, Vec2)> {
+    /// replaced by polylines with a point every 2°. Pieces are found through a tree of their
+    /// boxes, so the check stays near n log n however the outline is turned.
+    fn first_crossing(&self, bb: &Aabb) -> Option<(usize, usize, Vec2)> {
         let pieces = self.pieces(0);
         let n = self.vertices.len();
-        let tol = 1e-9 * self.aabb().extent();
-        sweep(&pieces, tol, |(ei, a1, b1), (ej, a2, b2)| {
+        let tol = 1e-9 * bb.extent();
+        // Consecutive pieces of an outline are neighbours: the tree keeps their order.
+        let tree = BoxTree::build_in_order(pieces.iter().map(|p| piece_box(p, tol)).collect());
+        let mut found = None;
+        tree.overlapping_pairs(|k, m| {
+            let ((ei, a1, b1), (ej, a2, b2)) = (pieces[k.min(m) as usize], pieces[k.max(m) as usize]);
             let adjacent = ei == ej || (ei + 1) % n == ej || (ej + 1) % n == ei;
-            segments_cross(a1, b1, a2, b2, tol, adjacent).map(|p| (ei.min(ej), ei.max(ej), p))
-        })
+            found = segments_cross(a1, b1, a2, b2, tol, adjacent).map(|p| (ei.min(ej), ei.max(ej), p));
+            found.is_some()
+        });
+        found
     }
 
     /// A point where the boundaries of this outline and `other` properly cross, if any: then
     /// the two overlap without one containing the other. Boundaries that only touch (a
-    /// shared face, a vertex on an edge) do not count.
+    /// shared face, a vertex on an edge) do not count. The answer depends only on the two
+    /// outlines (the first crossing piece of `self` in order, then of `other` in tree order).
     pub fn crossing_with(&self, other: &Outline) -> Option<Vec2> {
-        let n = self.vertices.len();
-        let mut pieces = self.pieces(0);
-        pieces.extend(other.pieces(n));
         let tol = 1e-9 * self.aabb().union(&other.aabb()).extent();
-        sweep(&pieces, tol, |(ei, a1, b1), (ej, a2, b2)| {
-            if (ei < n) == (ej < n) {
-                return None;
-            }
+        let theirs = other.pieces(0);
+        let tree = BoxTree::build_in_order(theirs.iter().map(|p| piece_box(p, tol)).collect());
+        for p in self.pieces(0) {
+            let mut found = None;
             // `adjacent = true` asks for a proper crossing only.
-            segments_cross(a1, b1, a2, b2, tol, true)
-        })
+            if tree.overlapping(&piece_box(&p, tol), |m| {
+                let (_, a2, b2) = theirs[m as usize];
+                found = segments_cross(p.1, p.2, a2, b2, tol, true);
+                found.is_some()
+            }) {
+                return found;
+            }
+        }
+        None
     }
 
     /// The edges as straight pieces `(edge index + offset, a, b)`, arcs as polylines with a
     /// point every 2°.
-    fn pieces(&self, offset: usize) -> Vec<(usize, Vec2, Vec2)> {
+    pub(crate) fn pieces(&self, offset: usize) -> Vec<(usize, Vec2, Vec2)> {
         let mut pieces = Vec::with_capacity(self.vertices.len());
         for (i, e) in self.edges().enumerate() {
+            if e.arc().is_none() {
+                pieces.push((i + offset, e.a, e.b));
+                continue;
+            }
             let pts = e.polyline(2f64.to_radians());
             for w in pts.windows(2) {
                 pieces.push((i + offset, w[0], w[1]));
@@ -224,29 +335,47 @@ impl Outline {
     }
 }
 
-/// Sweeps over x: calls `test` for every pair of pieces whose x-ranges overlap (within
-/// `tol`) and returns its first answer.
-fn sweep<T>(
-    pieces: &[(usize, Vec2, Vec2)],
-    tol: f64,
-    mut test: impl FnMut((usize, Vec2, Vec2), (usize, Vec2, Vec2)) -> Option<T>,
-) -> Option<T> {
-    let minx = |k: usize| pieces[k].1.x.min(pieces[k].2.x);
-    let maxx = |k: usize| pieces[k].1.x.max(pieces[k].2.x);
-    let mut order: Vec<usize> = (0..pieces.len()).collect();
-    order.sort_by(|&a, &b| minx(a).total_cmp(&minx(b)));
-    let mut active: Vec<usize> = Vec::new();
-    for &k in &order {
-        let x0 = minx(k);
-        active.retain(|&m| maxx(m) >= x0 - tol);
-        for &m in &active {
-            if let Some(t) = test(pieces[k], pieces[m]) {
-                return Some(t);
+/// The pairs `(i, j)`, `i < j`, of outlines whose boundaries properly cross (as
+/// [`Outline::crossing_with`] would find), in order. One tree over the pieces of all
+/// outlines, so nested or crowded outlines cost near n log n in their pieces, not one test
+/// per pair of outlines whose boxes overlap.
+pub fn crossing_pairs(outlines: &[&Outline]) -> Vec<(usize, usize)> {
+    let boxes: Vec<Aabb> = outlines.iter().map(|o| o.aabb()).collect();
+    let all = boxes.iter().fold(Aabb::EMPTY, |acc, b| acc.union(b));
+    let tol_max = 1e-9 * all.extent();
+    // Only outlines whose boxes meet another's can cross anything. (One query each that
+    // stops at the first other box: listing every meeting pair would be quadratic for
+    // nested outlines, whose boxes all meet.)
+    let grown: Vec<Aabb> = boxes.iter().map(|b| b.expanded(tol_max)).collect();
+    let solid_tree = BoxTree::build(grown.clone());
+    let mut pieces = Vec::new();
+    for (k, o) in outlines.iter().enumerate() {
+        if solid_tree.overlapping(&grown[k], |j| j as usize != k) {
+            pieces.extend(o.pieces(0).into_iter().map(|(_, a, b)| (k, a, b)));
+        }
+    }
+    // Split by position, not in outline order: the pieces of nested outlines must be told
+    // apart by where they lie, since the outlines' own boxes all overlap.
+    let tree = BoxTree::build(pieces.iter().map(|p| piece_box(p, tol_max)).collect());
+    let mut pairs = Vec::new();
+    tree.overlapping_pairs(|k, m| {
+        let ((i, a1, b1), (j, a2, b2)) = (pieces[k as usize], pieces[m as usize]);
+        if i != j {
+            let tol = 1e-9 * boxes[i].union(&boxes[j]).extent();
+            if segments_cross(a1, b1, a2, b2, tol, true).is_some() {
+                pairs.push((i.min(j), i.max(j)));
             }
         }
-        active.push(k);
-    }
-    None
+        false
+    });
+    pairs.sort_unstable();
+    pairs.dedup();
+    pairs
+}
+
+/// The box of a piece, grown by `tol`.
+fn piece_box(p: &(usize, Vec2, Vec2), tol: f64) -> Aabb {
+    Aabb::from_points([p.1, p.2]).expanded(tol)
 }
 
 /// Whether two segments cross. For pieces of the same or adjacent edges only a proper
@@ -333,6 +462,27 @@ mod tests {
         assert!(a.crossing_with(&at(1.0, 1.0, 2.0)).is_some(), "overlapping corners");
         let ball = Outline { vertices: vec![Vec2::new(1.3, 2.2), Vec2::new(3.3, 2.2)], bulges: vec![1.0, 1.0] };
         assert!(a.crossing_with(&ball).is_some(), "a circle over a corner");
+    }
+
+    #[test]
+    fn an_edited_outline_is_checked_where_it_moved() {
+        // A comb of teeth; move one tooth's tip through the next tooth, then a little.
+        let mut v = vec![Vec2::new(0.0, 0.0)];
+        for k in 0..50 {
+            let x = f64::from(k);
+            v.extend([Vec2::new(x + 0.2, 0.0), Vec2::new(x + 0.5, -1.0), Vec2::new(x + 0.8, 0.0)]);
+        }
+        v.extend([Vec2::new(51.0, 0.0), Vec2::new(51.0, 2.0), Vec2::new(0.0, 2.0)]);
+        let comb = Outline::polygon(v);
+        let bb = comb.validate_with_box().expect("valid comb");
+        let mut moved = comb.clone();
+        moved.vertices[2 + 3 * 10].x += 2.0; // tip of tooth 10 across tooth 11
+        assert!(moved.validate().is_err());
+        assert_eq!(moved.validate_edited(&comb, &bb), None);
+        let mut nudged = comb.clone();
+        nudged.vertices[2 + 3 * 10].x += 0.05;
+        assert_eq!(nudged.validate_edited(&comb, &bb), Some(bb));
+        assert!(nudged.validate().is_ok());
     }
 
     #[test]

@@ -29,6 +29,36 @@ pub const LINE_C_NM: f64 = 656.2725;
 /// The valid range given to materials built with [`Material::constant`], in nm.
 const CONSTANT_VALID_NM: (f64, f64) = (200.0, 20_000.0);
 
+/// Indices relative to air above this are taken for a mistake (a formula near its pole, a
+/// coefficient typed wrong) and warned about; the densest common optical solids stay below 5.
+pub const MAX_PLAUSIBLE_INDEX: f64 = 10.0;
+/// Indices relative to air below this are warned about likewise (vacuum relative to air is
+/// 0.99972, so gases and vacuum pass).
+pub const MIN_PLAUSIBLE_INDEX: f64 = 0.99;
+
+/// How usable a refractive index is for tracing; see [`check_index`].
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum IndexCheck {
+    /// Finite, positive and between [`MIN_PLAUSIBLE_INDEX`] and [`MAX_PLAUSIBLE_INDEX`].
+    Plausible,
+    /// Finite and positive, but outside the plausible range.
+    Implausible,
+    /// Not finite or not positive: no ray can be traced through it.
+    Unusable,
+}
+
+/// Sorts an index (relative to air) into usable, implausible or unusable. Scene validation
+/// uses this for every material at every traced wavelength, so `check` and `trace` agree.
+pub fn check_index(n: f64) -> IndexCheck {
+    if !(n.is_finite() && n > 0.0) {
+        IndexCheck::Unusable
+    } else if (MIN_PLAUSIBLE_INDEX..=MAX_PLAUSIBLE_INDEX).contains(&n) {
+        IndexCheck::Plausible
+    } else {
+        IndexCheck::Implausible
+    }
+}
+
 /// What a material's tabulated index is measured against.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
 pub enum IndexReference {
@@ -41,6 +71,7 @@ pub enum IndexReference {
 /// A dispersion formula. Every coefficient is in the units named in the variant; wavelengths
 /// inside the formulas are in µm.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub enum Dispersion {
     /// A constant index.
     Constant { n: f64 },
@@ -94,6 +125,7 @@ impl Dispersion {
 /// An optical material: a dispersion formula, what it is measured against, absorption and
 /// provenance.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Material {
     pub name: String,
     pub dispersion: Dispersion,

@@ -7,6 +7,7 @@
 pub mod edit;
 pub mod file;
 pub mod history;
+pub mod pick;
 pub mod shapes;
 pub mod validate;
 
@@ -19,7 +20,7 @@ pub use edit::{Edit, EditError, apply};
 pub use file::{LoadError, Loaded, SaveError};
 pub use history::{Gesture, History};
 pub use shapes::Shape;
-pub use validate::{Problem, validate};
+pub use validate::{GeometryChecks, Problem, validate, validate_with};
 
 /// The version of the scene schema written by this build.
 pub const SCENE_VERSION: u32 = 2;
@@ -270,6 +271,7 @@ pub enum Polarization {
 
 /// One line of a source's spectrum.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Line {
     pub nm: f64,
     /// Relative weight; the source's power is shared in proportion to the weights.

@@ -14,6 +14,7 @@ use crate::geom::{Outline, Vec2};
 pub const MAX_NOTCHES: u32 = 50_000;
 
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub enum Shape {
     /// A free outline: vertices in order, joined back to the first. One bulge per edge (the
     /// edge from vertex i to i + 1), or none for straight edges.

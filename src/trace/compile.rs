@@ -1,8 +1,12 @@
 //! Turns a [`Scene`] into what the tracer needs: one flat list of edges in a BVH, each with
 //! its owner and role, the nesting of solids, and an index table per wavelength and medium.
 
-use crate::geom::{Aabb, Bvh, BvhHit, Edge, Outline, Vec2};
-use crate::scene::{ObjectKind, Scene, validate};
+use std::collections::HashMap;
+use std::sync::Arc;
+
+use crate::geom::{Aabb, BoxTree, Bvh, BvhHit, Edge, Outline, Vec2};
+use crate::scene::validate::{GeometryChecks, Severity, validate_with};
+use crate::scene::{ObjectKind, Scene, Shape};
 
 /// What an edge does to light.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -33,7 +37,8 @@ pub struct EdgeInfo {
     pub edge: Edge,
     /// Index of the owning object in `scene.objects`.
     pub object: u32,
-    /// Index of the edge within its object.
+    /// Index of the edge within its object, in the order the file gives the edges (a free
+    /// outline written clockwise is run the other way internally; see [`file_edge_order`]).
     pub index: u32,
     pub role: Role,
 }
@@ -41,7 +46,11 @@ pub struct EdgeInfo {
 #[derive(Clone, Debug)]
 pub struct SolidInfo {
     pub object: u32,
-    pub outline: Outline,
+    /// Shared with the validation that checked it, and with later revisions while unchanged.
+    pub outline: Arc<Outline>,
+    /// A point strictly inside the outline, if one was found (looked for only when there
+    /// are solids to nest).
+    pub interior: Option<Vec2>,
     /// +1 if the outline runs counter-clockwise (outward = right normal), −1 otherwise.
     pub orient: f64,
     /// The smallest solid containing this one, if any.
@@ -86,55 +95,190 @@ pub struct Interface {
 }
 
 /// Media are numbered 0 for the ambient medium and `k + 1` for solid `k`.
-#[derive(Clone, Debug)]
+///
+/// A compiled scene can follow later revisions of its scene with [`Compiled::update`],
+/// which rebuilds only what changed: outlines equal to those compiled before are not
+/// validated again, only pairs of solids involving a changed solid are checked again, the
+/// BVH is kept when no edge moved and refitted when edges moved but their number did not,
+/// and nesting is found again only when a solid changed.
+#[derive(Clone, Debug, Default)]
 pub struct Compiled {
-    pub edges: Vec<EdgeInfo>,
-    pub bvh: Bvh,
-    pub solids: Vec<SolidInfo>,
-    pub detectors: Vec<DetectorInfo>,
+    pub(crate) edges: Vec<EdgeInfo>,
+    pub(crate) bvh: Bvh,
+    pub(crate) solids: Vec<SolidInfo>,
+    pub(crate) detectors: Vec<DetectorInfo>,
     /// Material name of each medium.
-    pub medium_names: Vec<String>,
+    pub(crate) medium_names: Vec<String>,
     /// Absorption coefficient of each medium, 1/mm.
-    pub alpha: Vec<f64>,
-    pub wavelengths: Vec<f64>,
+    pub(crate) alpha: Vec<f64>,
+    pub(crate) wavelengths: Vec<f64>,
     /// `index[w][m]`: refractive index (relative to standard air) at wavelength `w` in medium `m`.
-    pub index: Vec<Vec<f64>>,
-    /// Rays leaving this box escape.
-    pub bounds: Aabb,
+    pub(crate) index: Vec<Vec<f64>>,
+    /// Rays leaving this box escape: [`Compiled::content_bounds`] with the scene's margin.
+    pub(crate) bounds: Aabb,
+    /// The box around every edge and source, before any margin.
+    pub(crate) content_bounds: Aabb,
     /// A length typical of the scene (bounding-box extent), for tolerances.
-    pub scale: f64,
-    pub warnings: Vec<String>,
+    pub(crate) scale: f64,
+    pub(crate) warnings: Vec<String>,
     /// Ids of objects left out because of errors.
-    pub excluded: Vec<u64>,
+    pub(crate) excluded: Vec<u64>,
+    /// The geometric checks of this revision, reused by the next update.
+    checks: GeometryChecks,
+    /// Boxes of the solids, for point queries.
+    solid_boxes: BoxTree,
+}
+
+/// What happened to the BVH in an update.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum BvhUpdate {
+    /// No edge changed: the tree was kept as it was.
+    #[default]
+    Kept,
+    /// Edges moved but their number stayed: the boxes were refitted.
+    Refitted,
+    /// Built from scratch (edges added or removed, or a refitted tree had degraded).
+    Rebuilt,
+}
+
+/// What [`Compiled::update`] (or a first compile) had to redo.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct UpdateReport {
+    /// Solid outlines built and validated (unchanged ones are reused).
+    pub outlines_checked: usize,
+    /// Pairs of solids tested for crossing boundaries.
+    pub pairs_checked: usize,
+    pub bvh: BvhUpdate,
+    /// Whether the nesting of solids was worked out again.
+    pub nesting: bool,
 }
 
 impl Compiled {
     /// Builds everything the tracer needs. Objects with errors are left out, each with a
     /// warning; nothing here fails.
-    #[allow(clippy::too_many_lines)] // one arm per object kind
     pub fn new(scene: &Scene) -> Self {
+        Self::build(scene, GeometryChecks::default(), None).0
+    }
+
+    /// [`Compiled::new`] reusing geometric checks already made on this scene, e.g. those
+    /// kept by [`crate::scene::file::Loaded`], so that loading and compiling a file
+    /// validates each outline once.
+    pub fn with_checks(scene: &Scene, checks: GeometryChecks) -> Self {
+        Self::build(scene, checks, None).0
+    }
+
+    /// Brings this compiled scene up to date with `scene`, a later revision of the scene it
+    /// was compiled from (any edit, applied to a copy or in place: objects are matched by
+    /// id and compared with what was compiled, so no record of the edit is needed). The
+    /// result is the same as `Compiled::new(scene)` except that a refitted BVH may list
+    /// the edges met at exactly the same distance in another order.
+    pub fn update(&mut self, scene: &Scene) -> UpdateReport {
+        let mut prev = std::mem::take(self);
+        let checks = std::mem::take(&mut prev.checks);
+        let (next, report) = Self::build(scene, checks, Some(prev));
+        *self = next;
+        report
+    }
+
+    /// The geometric checks of the compiled revision.
+    pub fn checks(&self) -> &GeometryChecks {
+        &self.checks
+    }
+
+    /// Every edge the tracer sees (solid boundaries and thin-element pieces), with owner and role.
+    pub fn edges(&self) -> &[EdgeInfo] {
+        &self.edges
+    }
+
+    pub fn bvh(&self) -> &Bvh {
+        &self.bvh
+    }
+
+    /// The solids traced, in scene order, with their nesting.
+    pub fn solids(&self) -> &[SolidInfo] {
+        &self.solids
+    }
+
+    pub fn detectors(&self) -> &[DetectorInfo] {
+        &self.detectors
+    }
+
+    /// Material name of each medium (0 the ambient, k + 1 solid k).
+    pub fn medium_names(&self) -> &[String] {
+        &self.medium_names
+    }
+
+    /// Absorption coefficient of each medium, 1/mm.
+    pub fn alpha(&self) -> &[f64] {
+        &self.alpha
+    }
+
+    pub fn wavelengths(&self) -> &[f64] {
+        &self.wavelengths
+    }
+
+    /// `index()[w][m]`: refractive index at wavelength `w` in medium `m`.
+    pub fn index(&self) -> &[Vec<f64>] {
+        &self.index
+    }
+
+    /// Rays leaving this box escape.
+    pub fn bounds(&self) -> Aabb {
+        self.bounds
+    }
+
+    /// A length typical of the scene, for tolerances.
+    pub fn scale(&self) -> f64 {
+        self.scale
+    }
+
+    /// The scene's problems (objects left out say so).
+    pub fn warnings(&self) -> &[String] {
+        &self.warnings
+    }
+
+    /// Ids of objects left out because of errors.
+    pub fn excluded(&self) -> &[u64] {
+        &self.excluded
+    }
+
+    /// The work shared by [`Compiled::new`] and [`Compiled::update`]; `prev` is the
+    /// compiled previous revision, whose parts are reused where nothing changed.
+    #[allow(clippy::too_many_lines)] // one arm per object kind
+    fn build(scene: &Scene, mut checks: GeometryChecks, prev: Option<Self>) -> (Self, UpdateReport) {
+        let mut report = UpdateReport::default();
         let mut warnings = Vec::new();
-        let problems = validate(scene);
-        let bad: Vec<u64> = problems
+        let problems = validate_with(scene, &mut checks);
+        (report.outlines_checked, report.pairs_checked) = checks.last_counts();
+        let mut bad: Vec<u64> = problems
             .iter()
-            .filter(|p| p.severity == crate::scene::validate::Severity::Error)
+            .filter(|p| p.severity == Severity::Error)
             .filter_map(|p| p.object.as_ref().map(|o| o.0))
             .collect();
         for p in &problems {
-            if p.severity == crate::scene::validate::Severity::Error {
+            if p.severity == Severity::Error {
                 warnings.push(format!("{p} (left out of the trace)"));
             } else {
                 warnings.push(p.to_string());
             }
         }
+        bad.sort_unstable();
+        bad.dedup();
+        // Per-solid results of the previous revision, by outline (shared while unchanged).
+        let (prev_solids, prev_edges, prev_bvh) = match prev {
+            Some(p) => (p.solids, Some(p.edges), Some(p.bvh)),
+            None => (Vec::new(), None, None),
+        };
+        let by_outline: HashMap<*const Outline, &SolidInfo> =
+            prev_solids.iter().map(|s| (Arc::as_ptr(&s.outline), s)).collect();
         let ambient = scene.material(&scene.ambient).unwrap_or_else(|| crate::optics::Material::constant("air", 1.0));
         let wavelengths = crate::scene::validate::source_wavelengths(scene);
         let mut media = vec![ambient];
-        let mut edges = Vec::new();
-        let mut solids = Vec::new();
+        let mut edges = Vec::with_capacity(prev_edges.as_ref().map_or(0, Vec::len));
+        let mut solids = Vec::with_capacity(prev_solids.len());
         let mut detectors = Vec::new();
         for (oi, o) in scene.objects.iter().enumerate() {
-            if bad.contains(&o.id) {
+            if bad.binary_search(&o.id).is_ok() {
                 continue;
             }
             let oi32 = oi as u32;
@@ -147,23 +291,35 @@ impl Compiled {
             };
             match &o.kind {
                 ObjectKind::Solid(s) => {
-                    let (Ok(outline), Some(material)) = (s.shape.outline(), scene.material(&s.material)) else {
+                    let (Some((outline, bbox)), Some(material)) =
+                        (checks.outline_and_box(o.id), scene.material(&s.material))
+                    else {
                         continue;
                     };
                     let k = solids.len() as u32;
+                    let file_edge = file_edge_order(&s.shape, outline.len());
                     for (i, e) in outline.edges().enumerate() {
-                        edges.push(EdgeInfo { edge: e, object: oi32, index: i as u32, role: Role::Solid { solid: k } });
+                        let index = file_edge(i);
+                        edges.push(EdgeInfo { edge: e, object: oi32, index, role: Role::Solid { solid: k } });
                     }
-                    let area = outline.signed_area();
-                    solids.push(SolidInfo {
-                        object: oi32,
-                        orient: if area >= 0.0 { 1.0 } else { -1.0 },
-                        bbox: outline.aabb(),
-                        area: area.abs(),
-                        outline,
-                        parent: None,
-                        depth: 0,
-                    });
+                    let info = match by_outline.get(&Arc::as_ptr(outline)) {
+                        Some(&old) => SolidInfo { object: oi32, parent: None, depth: 0, ..old.clone() },
+                        None => {
+                            let area = outline.signed_area();
+                            SolidInfo {
+                                object: oi32,
+                                orient: if area >= 0.0 { 1.0 } else { -1.0 },
+                                bbox,
+                                area: area.abs(),
+                                // Found by `nest` when there is another solid to nest with.
+                                interior: None,
+                                outline: Arc::clone(outline),
+                                parent: None,
+                                depth: 0,
+                            }
+                        }
+                    };
+                    solids.push(info);
                     media.push(material);
                 }
                 ObjectKind::Mirror(m) => push_path(&mut edges, &m.path, &|_| Role::Mirror {
@@ -187,9 +343,34 @@ impl Compiled {
                 ObjectKind::PointSource(_) | ObjectKind::BeamSource(_) | ObjectKind::LambertianSource(_) => {}
             }
         }
-        nest(&mut solids);
+        // The same solids in the same order nest as before.
+        let same_solids = solids.len() == prev_solids.len()
+            && solids.iter().zip(&prev_solids).all(|(a, b)| Arc::ptr_eq(&a.outline, &b.outline));
+        if same_solids {
+            for (a, b) in solids.iter_mut().zip(&prev_solids) {
+                (a.parent, a.depth) = (b.parent, b.depth);
+            }
+        } else {
+            report.nesting = true;
+            nest(&mut solids);
+        }
+        let solid_boxes = BoxTree::build(solids.iter().map(|s| s.bbox).collect());
         let bvh_edges: Vec<Edge> = edges.iter().map(|e| e.edge).collect();
-        let bvh = Bvh::build(&bvh_edges);
+        let same_count = prev_edges.as_ref().is_some_and(|old| old.len() == edges.len());
+        let unchanged =
+            same_count && prev_edges.as_ref().is_some_and(|old| old.iter().zip(&edges).all(|(a, b)| a.edge == b.edge));
+        let bvh = match prev_bvh {
+            Some(bvh) if unchanged => bvh,
+            mut prev => {
+                if same_count && prev.as_mut().is_some_and(|b| b.refit(&bvh_edges)) {
+                    report.bvh = BvhUpdate::Refitted;
+                    prev.unwrap_or_default()
+                } else {
+                    report.bvh = BvhUpdate::Rebuilt;
+                    Bvh::build(&bvh_edges)
+                }
+            }
+        };
         let mut bounds = bvh.bounds();
         for o in &scene.objects {
             for p in source_points(&o.kind) {
@@ -202,8 +383,8 @@ impl Compiled {
             bounds = Aabb::from_points([Vec2::new(0.0, 0.0)]);
         }
         let scale = bounds.extent().max(1e-3);
-        let margin = if scene.settings.margin.is_finite() { scene.settings.margin.max(0.0) } else { 0.0 };
-        let bounds = bounds.expanded(margin.max(0.01 * scale));
+        let content_bounds = bounds;
+        let bounds = with_margin(content_bounds, scale, scene.settings.margin);
         let index: Vec<Vec<f64>> =
             wavelengths.iter().map(|&nm| media.iter().map(|m| m.index_rel_air(nm)).collect()).collect();
         for (w, row) in index.iter().enumerate() {
@@ -220,7 +401,7 @@ impl Compiled {
             .into_iter()
             .map(|row| row.into_iter().map(|n| if n.is_finite() && n > 0.0 { n } else { 1.0 }).collect())
             .collect();
-        Self {
+        let compiled = Self {
             edges,
             bvh,
             detectors,
@@ -230,20 +411,35 @@ impl Compiled {
             wavelengths,
             index,
             bounds,
+            content_bounds,
             scale,
             warnings,
             excluded: bad,
-        }
+            checks,
+            solid_boxes,
+        };
+        (compiled, report)
+    }
+
+    /// The escape box for a margin of `margin` mm (at least 1 % of the scene's size).
+    pub fn bounds_with_margin(&self, margin: f64) -> Aabb {
+        with_margin(self.content_bounds, self.scale, margin)
     }
 
     /// The medium at point `p`: the innermost solid containing it (as medium number), else 0.
     pub fn medium_at(&self, p: Vec2) -> u32 {
         let mut best: Option<(u32, u32)> = None; // (depth, solid)
-        for (k, s) in self.solids.iter().enumerate() {
-            if s.bbox.contains(p) && s.outline.contains(p) && best.is_none_or(|(d, _)| s.depth > d) {
-                best = Some((s.depth, k as u32));
+        // Candidates come from the tree in any order: the deepest wins, the first solid on ties.
+        self.solid_boxes.overlapping(&Aabb::from_points([p]), |k| {
+            let s = &self.solids[k as usize];
+            if s.bbox.contains(p)
+                && best.is_none_or(|(d, j)| s.depth > d || (s.depth == d && k < j))
+                && s.outline.contains(p)
+            {
+                best = Some((s.depth, k));
             }
-        }
+            false
+        });
         best.map_or(0, |(_, k)| k + 1)
     }
 
@@ -364,6 +560,26 @@ impl Compiled {
     }
 }
 
+/// Maps the position of an edge in a solid's counter-clockwise outline (as
+/// [`Shape::outline`] gives it) to its number in the file: a free outline written clockwise
+/// is reversed, new edge k being old edge (n − k − 1) mod n. Primitives are generated
+/// counter-clockwise and keep their numbers.
+pub fn file_edge_order(shape: &Shape, n: usize) -> impl Fn(usize) -> u32 + use<> {
+    let reversed = match shape {
+        Shape::Outline { points, bulges } => {
+            let bulges = if bulges.len() == points.len() { bulges.clone() } else { vec![0.0; points.len()] };
+            Outline { vertices: points.iter().map(|&p| crate::scene::to_vec(p)).collect(), bulges }.signed_area() < 0.0
+        }
+        _ => false,
+    };
+    move |k| if reversed && n > 0 { ((2 * n - k - 1) % n) as u32 } else { k as u32 }
+}
+
+fn with_margin(content: Aabb, scale: f64, margin: f64) -> Aabb {
+    let margin = if margin.is_finite() { margin.max(0.0) } else { 0.0 };
+    content.expanded(margin.max(0.01 * scale))
+}
+
 fn source_points(kind: &ObjectKind) -> Vec<(f64, f64)> {
     match kind {
         ObjectKind::PointSource(p) => vec![p.position],
@@ -380,37 +596,156 @@ fn source_points(kind: &ObjectKind) -> Vec<(f64, f64)> {
 
 /// Finds for each solid the smallest solid that encloses it. (Solids that overlap without
 /// one enclosing the other are reported by `scene::validate`.)
+///
+/// Candidates come from a tree over the solids' boxes, smallest area first, so each solid
+/// tests about as many candidates as there are near misses, not every other solid: near
+/// n log n in the number of solids however deep they nest.
 fn nest(solids: &mut [SolidInfo]) {
-    let inner: Vec<Option<Vec2>> = solids.iter().map(|s| s.outline.interior_point()).collect();
     let n = solids.len();
+    if n < 2 {
+        return;
+    }
+    for s in solids.iter_mut().filter(|s| s.interior.is_none()) {
+        s.interior = s.outline.interior_point();
+    }
+    let tol = 1e-9 * solids.iter().map(|s| s.bbox.extent()).fold(0.0, f64::max);
+    let tree = ContainerTree::build(solids);
     for k in 0..n {
-        let Some(p) = inner[k] else { continue };
+        let Some(p) = solids[k].interior else { continue };
+        let mut after = (solids[k].area, None);
         let mut parent: Option<usize> = None;
-        for j in 0..n {
-            if j == k || solids[j].area < solids[k].area || (solids[j].area == solids[k].area && j > k) {
+        // Candidates in increasing (area, index); a candidate of the same area must come
+        // earlier in the list. The first that holds the solid is the smallest that does.
+        while let Some(j) = tree.next_container(&solids[k].bbox, tol, after) {
+            after = (solids[j].area, Some(j));
+            if j == k || (solids[j].area == solids[k].area && j > k) {
                 continue;
             }
-            if solids[j].bbox.contains(p)
-                && solids[j].outline.contains(p)
-                && parent.is_none_or(|q| solids[j].area < solids[q].area)
-                && encloses(&solids[j], &solids[k])
-            {
+            if solids[j].bbox.contains(p) && solids[j].outline.contains(p) && encloses(&solids[j], &solids[k]) {
                 parent = Some(j);
+                break;
             }
         }
         solids[k].parent = parent.map(|j| j as u32);
     }
-    for k in 0..n {
-        let mut d = 0;
-        let mut cur = solids[k].parent;
-        while let Some(c) = cur {
-            d += 1;
-            if d > n {
-                break;
+    // A parent has a larger area than its child, or the same area and a smaller index, so
+    // going through the solids by decreasing area (increasing index on ties) each parent's
+    // depth is known before its children's: O(n log n) rather than walking every chain of
+    // ancestors.
+    let mut order: Vec<usize> = (0..n).collect();
+    order.sort_by(|&a, &b| solids[b].area.total_cmp(&solids[a].area).then(a.cmp(&b)));
+    for k in order {
+        solids[k].depth = solids[k].parent.map_or(0, |p| solids[p as usize].depth + 1);
+    }
+}
+
+/// A k-d tree over the solids' boxes seen as points `(min x, min y, max x, max y)`, finding
+/// the box of least area that holds a given box.
+struct ContainerTree {
+    nodes: Vec<ContainerNode>,
+    /// Solid indices in tree order.
+    items: Vec<usize>,
+    corners: Vec<[f64; 4]>,
+    areas: Vec<f64>,
+}
+
+struct ContainerNode {
+    /// Componentwise least and greatest corner coordinates below this node.
+    lo: [f64; 4],
+    hi: [f64; 4],
+    /// Least area below this node.
+    min_area: f64,
+    first: usize,
+    /// Items of a leaf; 0 for an inner node (children at `first` and `first + 1`).
+    count: usize,
+}
+
+impl ContainerTree {
+    fn build(solids: &[SolidInfo]) -> Self {
+        let corners: Vec<[f64; 4]> =
+            solids.iter().map(|s| [s.bbox.min.x, s.bbox.min.y, s.bbox.max.x, s.bbox.max.y]).collect();
+        let areas: Vec<f64> = solids.iter().map(|s| s.area).collect();
+        let mut items: Vec<usize> = (0..solids.len()).collect();
+        let mut nodes = Vec::new();
+        let summary = |items: &[usize], first: usize| {
+            let mut node = ContainerNode {
+                lo: [f64::INFINITY; 4],
+                hi: [f64::NEG_INFINITY; 4],
+                min_area: f64::INFINITY,
+                first,
+                count: items.len(),
+            };
+            for &i in items {
+                for (a, &c) in corners[i].iter().enumerate() {
+                    node.lo[a] = node.lo[a].min(c);
+                    node.hi[a] = node.hi[a].max(c);
+                }
+                node.min_area = node.min_area.min(areas[i]);
             }
-            cur = solids[c as usize].parent;
+            node
+        };
+        if !items.is_empty() {
+            nodes.push(summary(&items, 0));
+            let mut todo = vec![0usize];
+            while let Some(ni) = todo.pop() {
+                let (first, count) = (nodes[ni].first, nodes[ni].count);
+                if count <= 4 {
+                    continue;
+                }
+                let spread = |a: usize| nodes[ni].hi[a] - nodes[ni].lo[a];
+                let axis = (0..4).max_by(|&a, &b| spread(a).total_cmp(&spread(b))).unwrap_or(0);
+                let mid = count / 2;
+                items[first..first + count].select_nth_unstable_by(mid, |&a, &b| {
+                    corners[a][axis].total_cmp(&corners[b][axis]).then(a.cmp(&b))
+                });
+                let child = nodes.len();
+                nodes.push(summary(&items[first..first + mid], first));
+                nodes.push(summary(&items[first + mid..first + count], first + mid));
+                nodes[ni].first = child;
+                nodes[ni].count = 0;
+                todo.push(child);
+                todo.push(child + 1);
+            }
         }
-        solids[k].depth = d as u32;
+        Self { nodes, items, corners, areas }
+    }
+
+    /// The solid of least `(area, index)` beyond `after` whose box holds `inner` (within
+    /// `tol`). `after.1 == None` stands before every index of that area.
+    fn next_container(&self, inner: &Aabb, tol: f64, after: (f64, Option<usize>)) -> Option<usize> {
+        let q = [inner.min.x + tol, inner.min.y + tol, inner.max.x - tol, inner.max.y - tol];
+        let beyond = |area: f64, i: usize| area > after.0 || (area == after.0 && after.1.is_none_or(|j| i > j));
+        let holds = |c: &[f64; 4]| c[0] <= q[0] && c[1] <= q[1] && c[2] >= q[2] && c[3] >= q[3];
+        let mut best: Option<(f64, usize)> = None;
+        let mut stack = Vec::new();
+        if !self.nodes.is_empty() {
+            stack.push(0usize);
+        }
+        while let Some(ni) = stack.pop() {
+            let n = &self.nodes[ni];
+            // Nothing below can hold `inner`, or nothing below can beat the best so far.
+            if !holds(&[n.lo[0], n.lo[1], n.hi[2], n.hi[3]]) || best.is_some_and(|(a, _)| n.min_area > a) {
+                continue;
+            }
+            if n.count > 0 {
+                for &i in &self.items[n.first..n.first + n.count] {
+                    let area = self.areas[i];
+                    if beyond(area, i)
+                        && holds(&self.corners[i])
+                        && best.is_none_or(|(a, j)| area < a || (area == a && i < j))
+                    {
+                        best = Some((area, i));
+                    }
+                }
+            } else {
+                // The child with the smaller least area goes last, so it is visited first.
+                let (a, b) = (n.first, n.first + 1);
+                let (near, far) = if self.nodes[a].min_area <= self.nodes[b].min_area { (a, b) } else { (b, a) };
+                stack.push(far);
+                stack.push(near);
+            }
+        }
+        best.map(|(_, i)| i)
     }
 }
 
@@ -433,4 +768,30 @@ fn encloses(outer: &SolidInfo, inner: &SolidInfo) -> bool {
 
 fn near_boundary(o: &Outline, q: Vec2, tol: f64) -> bool {
     o.edges().any(|e| e.aabb().expanded(tol).contains(q) && (e.point_at(e.param_of(q)) - q).norm() <= tol)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::scene::{Object, Solid};
+
+    #[test]
+    fn concentric_balls_nest_with_points_on_their_chords_inside() {
+        let mut s = Scene::new("t");
+        for k in 0..3 {
+            s.objects.push(Object {
+                id: k + 1,
+                name: format!("b{k}"),
+                kind: ObjectKind::Solid(Solid {
+                    shape: crate::scene::Shape::Ball { position: (0.0, 0.0), radius: 1.0 + k as f64 },
+                    material: "pmma".into(),
+                }),
+            });
+        }
+        let c = Compiled::new(&s);
+        let got: Vec<_> = c.solids.iter().map(|s| (s.parent, s.depth)).collect();
+        assert_eq!(got, [(Some(1), 2), (Some(2), 1), (None, 0)]);
+        // On the balls' common chord line: inside the innermost.
+        assert_eq!(c.medium_at(Vec2::new(0.5, 0.0)), 1);
+    }
 }

@@ -5,7 +5,7 @@ use std::sync::Arc;
 use std::sync::mpsc::{Receiver, TryRecvError, channel};
 use std::thread;
 
-use super::{Control, Trace, TraceConfig, trace_with};
+use super::{Compiled, Control, Trace, TraceConfig, trace_compiled, trace_with};
 use crate::scene::Scene;
 
 /// A trace running on a background thread.
@@ -24,6 +24,22 @@ impl TraceJob {
         let c = Arc::clone(&control);
         thread::spawn(move || {
             let t = trace_with(&scene, &config, &c);
+            // The receiver may be gone if the job was dropped; nothing to do then.
+            let _ = tx.send(t);
+        });
+        Self { control, result: rx, done: None }
+    }
+
+    /// Starts tracing a copy of `scene` with a compiled form of it, which the job shares:
+    /// the editor keeps its `Arc<Compiled>`, brings it up to date after each edit with
+    /// [`Compiled::update`] (through `Arc::make_mut`, which copies it only while an older
+    /// job still holds it) and starts the next job with a clone of the `Arc`.
+    pub fn start_compiled(scene: Scene, compiled: Arc<Compiled>, config: TraceConfig) -> Self {
+        let control = Arc::new(Control::new());
+        let (tx, rx) = channel();
+        let c = Arc::clone(&control);
+        thread::spawn(move || {
+            let t = trace_compiled(&scene, &compiled, &config, &c);
             // The receiver may be gone if the job was dropped; nothing to do then.
             let _ = tx.send(t);
         });

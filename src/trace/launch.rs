@@ -13,7 +13,7 @@ use crate::scene::{Emission, ObjectKind, Polarization, Scene, TraceMode};
 /// A ray ready to trace.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Launch {
-    /// Object index of the source.
+    /// Slot of the source: its position in `scene.objects` (see `Trace::objects`).
     pub source: u32,
     pub origin: Vec2,
     pub dir: Vec2,
@@ -106,8 +106,8 @@ impl<'a> Launcher<'a> {
             compiled,
             runs,
             total,
-            mc: config.mode == TraceMode::MonteCarlo,
-            seed: config.seed,
+            mc: config.settings.mode == TraceMode::MonteCarlo,
+            seed: config.settings.seed,
             delta: 1e-9 * compiled.scale,
         }
     }

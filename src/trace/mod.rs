@@ -12,34 +12,39 @@ mod compile;
 mod engine;
 mod job;
 mod launch;
+pub mod pick;
 
-use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
+use std::sync::atomic::{AtomicBool, AtomicU64, AtomicUsize, Ordering};
 
 use rayon::prelude::*;
 
-pub use compile::{Compiled, Crossing, Interface, Role};
+pub use compile::{BvhUpdate, Compiled, Crossing, Interface, Role, UpdateReport};
 pub use job::TraceJob;
 pub use launch::{Launch, Launcher};
 
 use crate::geom::Vec2;
-use crate::scene::{Scene, TraceMode};
+use crate::scene::{Scene, TraceMode, TraceSettings};
 
 /// Launched rays per chunk (the unit of parallel work).
 const CHUNK: usize = 8;
 /// Chunks per batch (the unit of progress, cancellation and the event cap).
 const BATCH: usize = 64;
 
-/// Settings for one trace; [`TraceConfig::from_scene`] takes them from the scene file.
+/// Default of [`TraceConfig::max_branches_per_ray`].
+pub const DEFAULT_MAX_BRANCHES_PER_RAY: u32 = 100_000;
+
+/// Everything one trace runs with: the scene's own settings (possibly changed, e.g. by the
+/// command line) plus what only a run decides. [`TraceConfig::from_scene`] starts from the
+/// scene file.
 #[derive(Clone, Debug, PartialEq)]
 pub struct TraceConfig {
-    pub mode: TraceMode,
-    /// Tree mode: branches below this fraction of their launch power are dropped.
-    pub threshold: f64,
-    /// Most interface events along one path.
-    pub max_depth: u32,
-    pub seed: u64,
-    /// Most events kept for drawing and export.
-    pub max_stored_events: usize,
+    /// Mode, threshold, depth limit, seed, event cap and margin. The trace reads them here,
+    /// never from the scene.
+    pub settings: TraceSettings,
+    /// Tree mode: most branches split off one launched ray. Beyond it a ray keeps only its
+    /// transmitted part and the reflected part counts as below threshold (with a warning),
+    /// so a trace stays bounded whatever the threshold and depth.
+    pub max_branches_per_ray: u32,
     /// If set, every source launches this many rays per wavelength instead of its own count.
     pub rays: Option<u32>,
     /// Threads to use; `None` uses rayon's global pool.
@@ -48,13 +53,9 @@ pub struct TraceConfig {
 
 impl TraceConfig {
     pub fn from_scene(scene: &Scene) -> Self {
-        let s = &scene.settings;
         Self {
-            mode: s.mode,
-            threshold: s.threshold,
-            max_depth: s.max_depth,
-            seed: s.seed,
-            max_stored_events: s.max_stored_events,
+            settings: scene.settings.clone(),
+            max_branches_per_ray: DEFAULT_MAX_BRANCHES_PER_RAY,
             rays: None,
             threads: None,
         }
@@ -123,9 +124,12 @@ pub struct Event {
     pub before_s: f32,
     pub before_p: f32,
     pub ray: u32,
-    /// Object index in `scene.objects` ([`NONE`] for launch, escape, limit).
-    pub object: u32,
-    /// Edge index within the object.
+    /// The object's slot in [`Trace::objects`] (the source at a launch; [`NONE`] where no
+    /// object is involved: escape, limit, a branch dropped between surfaces); its id is
+    /// [`Trace::object_id_of`]. A slot, not an id, so that an event stays 64 bytes.
+    pub object_slot: u32,
+    /// Edge number within the object, in the order the file gives the edges ([`NONE`] where
+    /// no edge is involved).
     pub edge: u32,
     /// The medium the ray travels in after this event (0 ambient, k + 1 solid k).
     pub medium: u32,
@@ -150,8 +154,8 @@ pub struct RayRecord {
     pub id: u32,
     /// The ray this one split off from ([`NONE`] for a launched ray).
     pub parent: u32,
-    /// Object index of the source.
-    pub source: u32,
+    /// Id of the source object (as in the file).
+    pub source: u64,
     pub wavelength_nm: f64,
     /// Index of the first stored event and number stored.
     pub first_event: usize,
@@ -167,8 +171,8 @@ pub struct Budget {
     pub absorbed: f64,
     /// Absorbed inside the media, per medium (0 ambient, k + 1 solid k).
     pub absorbed_in_media: Vec<f64>,
-    /// Absorbed by thin elements, per object index.
-    pub absorbed_by_object: Vec<f64>,
+    /// Absorbed by thin elements: (object id, W) for every object of the scene, in scene order.
+    pub absorbed_by_object: Vec<(u64, f64)>,
     pub trapped: f64,
     pub below_threshold: f64,
     /// Per detector (same order as [`Trace::detectors`]).
@@ -176,10 +180,10 @@ pub struct Budget {
 }
 
 impl Budget {
-    fn sized(media: usize, objects: usize, detectors: usize) -> Self {
+    fn sized(media: usize, object_ids: &[u64], detectors: usize) -> Self {
         Self {
             absorbed_in_media: vec![0.0; media],
-            absorbed_by_object: vec![0.0; objects],
+            absorbed_by_object: object_ids.iter().map(|&id| (id, 0.0)).collect(),
             detected: vec![0.0; detectors],
             ..Self::default()
         }
@@ -195,11 +199,16 @@ impl Budget {
             *a += b;
         }
         for (a, b) in self.absorbed_by_object.iter_mut().zip(&o.absorbed_by_object) {
-            *a += b;
+            a.1 += b.1;
         }
         for (a, b) in self.detected.iter_mut().zip(&o.detected) {
             *a += b;
         }
+    }
+
+    /// Power absorbed by the thin element with id `object_id`.
+    pub fn absorbed_by(&self, object_id: u64) -> f64 {
+        self.absorbed_by_object.iter().filter(|(id, _)| *id == object_id).map(|(_, w)| w).sum()
     }
 
     pub fn detected_total(&self) -> f64 {
@@ -232,23 +241,40 @@ pub struct DetectorHit {
 /// Everything one detector saw.
 #[derive(Clone, Debug, PartialEq)]
 pub struct DetectorResult {
-    /// Object index and name.
-    pub object: u32,
+    /// Id of the detector object (as in the file) and its name.
+    pub object: u64,
     pub name: String,
     pub length: f64,
     pub hits: Vec<DetectorHit>,
+}
+
+/// An object of the traced scene as the trace saw it.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct TracedObject {
+    /// Its id in the file.
+    pub id: u64,
+    pub name: String,
+    /// Its kind in words ("solid", "absorber", …).
+    pub kind: &'static str,
 }
 
 /// The result of a trace.
 #[derive(Clone, Debug)]
 pub struct Trace {
     pub mode: TraceMode,
+    /// The scene's revision when it was traced; see [`Trace::is_stale`].
+    pub revision: u64,
+    /// Every object of the scene in scene order; [`Event::object_slot`] indexes this.
+    pub objects: Vec<TracedObject>,
     pub rays: Vec<RayRecord>,
     pub events: Vec<Event>,
     pub budget: Budget,
     pub detectors: Vec<DetectorResult>,
     /// Names of the media, 0 the ambient.
     pub medium_names: Vec<String>,
+    /// The object each medium belongs to: `None` for medium 0 (the ambient), then the id of
+    /// the solid of each medium k + 1.
+    pub medium_objects: Vec<Option<u64>>,
     pub wavelengths: Vec<f64>,
     /// Rays traced (launched and split), including those whose events were not stored.
     pub n_rays: u64,
@@ -256,6 +282,10 @@ pub struct Trace {
     pub n_events: u64,
     /// Whether the event cap was reached.
     pub events_truncated: bool,
+    /// Most events held at once by the unmerged chunk results of one batch (with a chunk
+    /// traced again at the cap): at most twice `max_stored_events`, however many events the
+    /// rays make.
+    pub events_held_peak: usize,
     /// Whether the trace was stopped early; the budget then covers only the rays traced.
     pub cancelled: bool,
     pub warnings: Vec<String>,
@@ -265,6 +295,26 @@ impl Trace {
     /// The stored events of a ray.
     pub fn events_of(&self, ray: &RayRecord) -> &[Event] {
         &self.events[ray.first_event..ray.first_event + ray.n_events as usize]
+    }
+
+    /// The object an event happened at, if any.
+    pub fn object_of(&self, event: &Event) -> Option<&TracedObject> {
+        self.objects.get(event.object_slot as usize)
+    }
+
+    /// The id (as in the file) of the object an event happened at, if any.
+    pub fn object_id_of(&self, event: &Event) -> Option<u64> {
+        self.object_of(event).map(|o| o.id)
+    }
+
+    /// The traced object with id `id`.
+    pub fn object(&self, id: u64) -> Option<&TracedObject> {
+        self.objects.iter().find(|o| o.id == id)
+    }
+
+    /// Whether `scene` has changed since this trace was made from it (by its revision).
+    pub fn is_stale(&self, scene: &Scene) -> bool {
+        scene.revision != self.revision
     }
 }
 
@@ -315,24 +365,63 @@ struct Merged {
     events: Vec<Event>,
     n_rays: u64,
     n_events: u64,
+    n_cut_branches: u64,
     truncated: bool,
+    /// Whether the first ray alone was longer than the cap and was kept cut short.
+    first_ray_cut: bool,
     cancelled: bool,
     max_stored_events: usize,
+    /// Most events held at once by the unmerged results of one batch (re-traced chunks
+    /// included).
+    held_peak: usize,
 }
 
+/// What one chunk of a batch gave: its launched-ray range and result (`None` if it was
+/// stopped by cancellation).
+type ChunkOutcome = ((u64, u64), Option<engine::ChunkResult>);
+
 impl Merged {
-    /// Appends a batch of chunk results (`store`: whether its events were kept); returns
-    /// whether to go on (false once a chunk was stopped by cancellation).
-    fn add(&mut self, results: Vec<Option<engine::ChunkResult>>, store: bool) -> bool {
-        if store && !self.truncated {
-            // One allocation per batch instead of repeated doubling (and copying) of the lists.
-            let room = self.max_stored_events.saturating_sub(self.events.len());
-            let events: usize = results.iter().flatten().map(|r| r.events.len()).sum();
-            let rays: usize = results.iter().flatten().map(|r| r.rays.len()).sum();
-            self.events.reserve(events.min(room));
-            self.rays.reserve(rays);
+    fn new(compiled: &Compiled, object_ids: &[u64], max_stored_events: usize) -> Self {
+        Self {
+            budget: Budget::sized(compiled.alpha.len(), object_ids, compiled.detectors.len()),
+            detectors: compiled
+                .detectors
+                .iter()
+                .map(|d| DetectorResult {
+                    object: object_ids.get(d.object as usize).copied().unwrap_or_default(),
+                    name: d.name.clone(),
+                    length: d.length,
+                    hits: Vec::new(),
+                })
+                .collect(),
+            rays: Vec::new(),
+            events: Vec::new(),
+            n_rays: 0,
+            n_events: 0,
+            n_cut_branches: 0,
+            truncated: false,
+            first_ray_cut: false,
+            cancelled: false,
+            max_stored_events,
+            held_peak: 0,
         }
-        for r in results {
+    }
+
+    /// Appends a batch of chunk results (`store`: whether their events may be kept), keeping
+    /// complete rays in launch order while they fit under the cap. A chunk that stopped
+    /// keeping events early (its share of the room ran out while other chunks ran) is traced
+    /// again by `retrace` with exactly the room left, so the events kept do not depend on
+    /// timing or the number of threads. Returns whether to go on (false once a chunk was
+    /// stopped by cancellation).
+    fn add(
+        &mut self,
+        results: Vec<ChunkOutcome>,
+        store: bool,
+        retrace: &dyn Fn((u64, u64), usize) -> engine::ChunkResult,
+    ) -> bool {
+        let held: usize = results.iter().filter_map(|(_, r)| r.as_ref()).map(|r| r.events.len()).sum();
+        self.held_peak = self.held_peak.max(held);
+        for (range, r) in results {
             let Some(r) = r else {
                 self.cancelled = true;
                 continue;
@@ -342,17 +431,30 @@ impl Merged {
                 d.hits.extend(h);
             }
             self.n_events += r.n_events;
+            self.n_cut_branches += r.n_cut_branches;
             let ray_base = self.n_rays as u32;
             self.n_rays += r.n_rays;
             if self.truncated || !store {
                 continue;
             }
-            if self.events.len() + r.events.len() > self.max_stored_events {
+            let room = self.max_stored_events.saturating_sub(self.events.len());
+            let (rays, events, all_stored) = if r.all_stored {
+                (r.rays, r.events, true)
+            } else {
+                drop(r.events);
+                let again = retrace(range, room);
+                self.held_peak = self.held_peak.max(held + again.events.len());
+                self.first_ray_cut |= again.first_ray_cut;
+                (again.rays, again.events, again.all_stored)
+            };
+            // The rays whose events all fit.
+            let fit = rays.partition_point(|ray| ray.first_event + ray.n_events as usize <= room);
+            let n_events_kept = rays[..fit].last().map_or(0, |ray| ray.first_event + ray.n_events as usize);
+            if fit < rays.len() || !all_stored {
                 self.truncated = true;
-                continue;
             }
             let event_base = self.events.len();
-            self.rays.extend(r.rays.into_iter().map(|mut ray| {
+            self.rays.extend(rays.into_iter().take(fit).map(|mut ray| {
                 ray.id += ray_base;
                 if ray.parent != NONE {
                     ray.parent += ray_base;
@@ -360,54 +462,141 @@ impl Merged {
                 ray.first_event += event_base;
                 ray
             }));
-            self.events.extend(r.events.into_iter().map(|mut e| {
+            self.events.extend(events.into_iter().take(n_events_kept).map(|mut e| {
                 e.ray += ray_base;
                 e
             }));
         }
         !self.cancelled
     }
+
+    /// The finished trace, with warnings about what was cut or stopped.
+    fn into_trace(self, scene: &Scene, compiled: &Compiled, config: &TraceConfig) -> Trace {
+        let mut warnings = compiled.warnings.clone();
+        let object_ids: Vec<u64> = scene.objects.iter().map(|o| o.id).collect();
+        let Merged {
+            budget,
+            detectors,
+            rays,
+            events,
+            n_rays,
+            n_events,
+            n_cut_branches,
+            truncated,
+            first_ray_cut,
+            cancelled,
+            held_peak,
+            ..
+        } = self;
+        let cap = config.settings.max_stored_events;
+        if first_ray_cut {
+            warnings.push(format!(
+                "the first ray alone has more events than settings.max_stored_events = {cap}: only its first {} of {n_events} events were kept; the budget covers all rays",
+                events.len()
+            ));
+        } else if truncated {
+            warnings.push(format!(
+                "only the first {} of {n_events} events were kept, as {} whole rays (the limit is settings.max_stored_events = {cap}); the budget covers all rays",
+                events.len(),
+                rays.len()
+            ));
+        }
+        if n_cut_branches > 0 {
+            warnings.push(format!(
+                "{n_cut_branches} reflected branches were not followed because a launched ray reached the limit of {} branches; their power is counted as below threshold",
+                config.max_branches_per_ray
+            ));
+        }
+        if cancelled {
+            warnings.push("the trace was stopped before all rays were traced".to_owned());
+        }
+        let err = budget.closure_error();
+        if err > 1e-9 {
+            warnings.push(format!("the power budget closes only to {err:.2e} relative"));
+        }
+        let objects = scene
+            .objects
+            .iter()
+            .map(|o| TracedObject { id: o.id, name: o.name.clone(), kind: o.kind.word() })
+            .collect();
+        let medium_objects = std::iter::once(None)
+            .chain(compiled.solids.iter().map(|s| object_ids.get(s.object as usize).copied()))
+            .collect();
+        Trace {
+            mode: config.settings.mode,
+            revision: scene.revision,
+            objects,
+            rays,
+            events,
+            budget,
+            detectors,
+            medium_names: compiled.medium_names.clone(),
+            medium_objects,
+            wavelengths: compiled.wavelengths.clone(),
+            n_rays,
+            n_events,
+            events_truncated: truncated,
+            events_held_peak: held_peak,
+            cancelled,
+            warnings,
+        }
+    }
 }
 
-/// Traces an already compiled scene (lets a caller reuse the BVH between traces).
+/// A thread pool of `threads` threads, made on first use and kept for later traces (making
+/// a pool per trace costs more than a short retrace). `None` if the pool cannot be made;
+/// the global pool is used then.
+fn pool_of(threads: usize) -> Option<std::sync::Arc<rayon::ThreadPool>> {
+    use std::collections::HashMap;
+    use std::sync::{Arc, Mutex, OnceLock};
+    static POOLS: OnceLock<Mutex<HashMap<usize, Arc<rayon::ThreadPool>>>> = OnceLock::new();
+    let threads = threads.max(1);
+    let mut pools =
+        POOLS.get_or_init(|| Mutex::new(HashMap::new())).lock().unwrap_or_else(std::sync::PoisonError::into_inner);
+    if let Some(p) = pools.get(&threads) {
+        return Some(Arc::clone(p));
+    }
+    let pool = Arc::new(rayon::ThreadPoolBuilder::new().num_threads(threads).build().ok()?);
+    pools.insert(threads, Arc::clone(&pool));
+    Some(pool)
+}
+
+/// Traces an already compiled scene (lets a caller reuse the BVH between traces). The
+/// scene must be the revision `compiled` was made or last updated from.
 pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, control: &Control) -> Trace {
-    let mut warnings = compiled.warnings.clone();
     let launcher = launch::Launcher::new(scene, compiled, config);
     control.total.store(launcher.len(), Ordering::Relaxed);
     control.done.store(0, Ordering::Relaxed);
-    let tracer = engine::Tracer::new(scene, compiled, config);
+    let object_ids: Vec<u64> = scene.objects.iter().map(|o| o.id).collect();
+    let tracer = engine::Tracer::new(compiled, config, &object_ids);
     let n_chunks = launcher.len().div_ceil(CHUNK as u64);
     let chunks: Vec<(u64, u64)> = (0..n_chunks).map(|k| (k * CHUNK as u64, (k + 1) * CHUNK as u64)).collect();
-    let mut m = Merged {
-        budget: Budget::sized(compiled.alpha.len(), scene.objects.len(), compiled.detectors.len()),
-        detectors: compiled
-            .detectors
-            .iter()
-            .map(|d| DetectorResult { object: d.object, name: d.name.clone(), length: d.length, hits: Vec::new() })
-            .collect(),
-        rays: Vec::new(),
-        events: Vec::new(),
-        n_rays: 0,
-        n_events: 0,
-        truncated: false,
-        cancelled: false,
-        max_stored_events: config.max_stored_events,
-    };
-    let run_batch = |batch: &[(u64, u64)], store: bool| -> Vec<Option<engine::ChunkResult>> {
+    let mut m = Merged::new(compiled, &object_ids, config.settings.max_stored_events);
+    // Room for events not yet taken by any chunk: what chunks take from it (merged or not)
+    // never exceeds the cap, and a chunk traced again at the merge takes at most the room
+    // left, so memory follows the cap however many events the rays make.
+    let cap = config.settings.max_stored_events;
+    let allowance = AtomicUsize::new(cap);
+    let run_batch = |batch: &[(u64, u64)], store: bool| -> Vec<ChunkOutcome> {
         batch
             .par_iter()
             .map(|&(start, end)| {
                 if control.is_cancelled() {
-                    return None;
+                    return ((start, end), None);
                 }
                 let launches = launcher.range(start, end);
-                let r = tracer.trace_chunk(&launches, store);
+                let storage = if store { engine::Storage::Shared(&allowance) } else { engine::Storage::Off };
+                let r = tracer.trace_chunk(&launches, storage);
                 control.done.fetch_add(launches.len() as u64, Ordering::Relaxed);
-                Some(r)
+                ((start, end), Some(r))
             })
             .collect()
     };
-    let pool = config.threads.and_then(|n| rayon::ThreadPoolBuilder::new().num_threads(n.max(1)).build().ok());
+    let retrace = |(start, end): (u64, u64), room: usize| {
+        // Only when nothing is kept yet (the very first ray) may a ray be kept cut short.
+        tracer.trace_chunk(&launcher.range(start, end), engine::Storage::Room { room, cut_first_ray: room == cap })
+    };
+    let pool = config.threads.and_then(pool_of);
     // Merging one batch (serial: it appends to the single event list) runs beside the
     // tracing of the next, inside the same pool, so with two or more threads the merge no
     // longer leaves the other threads idle. With one thread both run on it in turn.
@@ -415,7 +604,7 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
     // events stored just as the previous merge reaches the event cap; its events are then
     // skipped, as they would have been.
     let mut batches = chunks.chunks(BATCH);
-    let mut traced: Option<(Vec<Option<engine::ChunkResult>>, bool)> = None;
+    let mut traced: Option<(Vec<ChunkOutcome>, bool)> = None;
     loop {
         let go_on = !control.is_cancelled();
         let next = if go_on { batches.next() } else { None };
@@ -427,13 +616,23 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
         let store = !m.truncated;
         let prev = traced.take();
         let m_ref = &mut m;
+        let (allowance, retrace) = (&allowance, &retrace);
         let step = move || {
             rayon::join(
-                move || prev.is_none_or(|(results, store)| m_ref.add(results, store)),
+                move || {
+                    prev.is_none_or(|(results, store)| {
+                        let go_on = m_ref.add(results, store, retrace);
+                        if m_ref.truncated {
+                            // Nothing more will be kept: stop chunks under way from keeping events.
+                            allowance.store(0, Ordering::Relaxed);
+                        }
+                        go_on
+                    })
+                },
                 || next.map(|batch| (run_batch(batch, store), store)),
             )
         };
-        let (keep_going, results) = match &pool {
+        let (keep_going, results) = match pool.as_deref() {
             Some(p) => p.install(step),
             None => step(),
         };
@@ -442,7 +641,7 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
             // Cancelled while merging: keep what the batch already under way produced (its
             // chunks stop early) and start nothing new.
             if let Some((results, store)) = traced.take() {
-                m.add(results, store);
+                m.add(results, store, &retrace);
             }
             break;
         }
@@ -450,32 +649,5 @@ pub fn trace_compiled(scene: &Scene, compiled: &Compiled, config: &TraceConfig, 
             m.cancelled = true;
         }
     }
-    let Merged { budget, detectors, rays, events, n_rays, n_events, truncated, cancelled, .. } = m;
-    if truncated {
-        warnings.push(format!(
-            "only the first {} of {n_events} events were kept (the limit is settings.max_stored_events); the budget covers all rays",
-            events.len()
-        ));
-    }
-    if cancelled {
-        warnings.push("the trace was stopped before all rays were traced".to_owned());
-    }
-    let err = budget.closure_error();
-    if err > 1e-9 {
-        warnings.push(format!("the power budget closes only to {err:.2e} relative"));
-    }
-    Trace {
-        mode: config.mode,
-        rays,
-        events,
-        budget,
-        detectors,
-        medium_names: compiled.medium_names.clone(),
-        wavelengths: compiled.wavelengths.clone(),
-        n_rays,
-        n_events,
-        events_truncated: truncated,
-        cancelled,
-        warnings,
-    }
+    m.into_trace(scene, compiled, config)
 }

@@ -66,7 +66,7 @@ pub fn absorber(scene: &mut Scene, name: &str, a: (f64, f64), b: (f64, f64)) -> 
 
 pub fn config(scene: &Scene, mode: TraceMode) -> TraceConfig {
     let mut c = TraceConfig::from_scene(scene);
-    c.mode = mode;
+    c.settings.mode = mode;
     c
 }
 
