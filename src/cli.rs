@@ -14,7 +14,7 @@ use std::sync::Arc;
 use std::time::{Duration, Instant};
 
 use anyhow::{Context, anyhow};
-use clap::{CommandFactory, Parser, Subcommand, ValueEnum};
+use clap::{Parser, Subcommand, ValueEnum};
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 
 use raydraft::analysis::{BudgetReport, budget_report};
@@ -34,7 +34,7 @@ use raydraft::trace::{Compiled, Control, Trace, TraceConfig, trace_compiled};
 #[derive(Debug, Parser)]
 #[command(name = "raydraft", version, args_conflicts_with_subcommands = true)]
 pub struct Cli {
-    /// A scene file to open in the editor (the editor is not built yet).
+    /// A scene file to open in the editor (without one the editor opens a demo scene).
     pub file: Option<PathBuf>,
     #[command(subcommand)]
     pub command: Option<Command>,
@@ -172,15 +172,13 @@ pub fn run(cli: Cli) -> Result<ExitCode, Failure> {
         Some(Command::Index(args)) => index(&args),
         Some(Command::Sweep(args)) => sweep(&args),
         None => {
-            println!("The Raydraft editor is not built yet; for now the command line does the work.");
-            if let Some(path) = cli.file {
-                let loaded = load(&path)?;
-                print_load_warnings(&path, &loaded);
-                println!("To trace this scene, run:\n  raydraft trace {}", path.display());
-            } else {
-                println!();
-                let _ = Cli::command().print_help();
+            if let Some(path) = &cli.file {
+                // A file that does not load is reported here, with its line and column, rather
+                // than in a window.
+                let loaded = load(path)?;
+                print_load_warnings(path, &loaded);
             }
+            raydraft::app::run(cli.file).map_err(other)?;
             Ok(ExitCode::SUCCESS)
         }
     }

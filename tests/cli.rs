@@ -245,14 +245,23 @@ fn index_prints_a_library_value_and_refuses_unknown_materials() {
 }
 
 #[test]
-fn bare_raydraft_and_raydraft_file_explain_the_editor_is_coming() {
-    let out = raydraft(&[]);
-    assert!(out.status.success());
-    assert!(text(&out.stdout).contains("editor is not built yet"));
-    assert!(text(&out.stdout).contains("Usage"));
-    let out = raydraft(&["scenes/prism_fold.ron"]);
-    assert!(out.status.success());
-    assert!(text(&out.stdout).contains("raydraft trace scenes/prism_fold.ron"));
+fn raydraft_file_reports_a_bad_scene_before_opening_a_window() {
+    // The file is loaded (and a bad one rejected with its line and column) before any window.
+    let out = raydraft(&["tests/data/bad/syntax_error.ron"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("syntax_error.ron:"), "{}", text(&out.stderr));
+}
+
+#[test]
+fn bare_raydraft_without_a_display_says_the_window_could_not_open() {
+    let out = Command::new(env!("CARGO_BIN_EXE_raydraft"))
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .env_remove("DISPLAY")
+        .env_remove("WAYLAND_DISPLAY")
+        .output()
+        .expect("run raydraft");
+    assert_eq!(out.status.code(), Some(1));
+    assert!(text(&out.stderr).contains("the editor window could not be opened"), "{}", text(&out.stderr));
 }
 
 #[test]

@@ -10,6 +10,7 @@ use std::collections::HashMap;
 use std::fmt::Write;
 
 use crate::geom::{Aabb, Vec2};
+use crate::optics::colour::palette::{self, material_tint};
 use crate::optics::colour::wavelength_rgb;
 use crate::scene::{ObjectKind, Path, Scene};
 use crate::trace::{EventKind, NONE, Trace};
@@ -35,8 +36,6 @@ impl Default for SvgOptions {
     }
 }
 
-/// Orders of magnitude of relative power spread over the opacity range.
-const DECADES: f64 = 4.0;
 /// Opacity steps; consecutive segments of the same step share one polyline.
 const LEVELS: f64 = 16.0;
 
@@ -219,18 +218,21 @@ fn write_header(out: &mut String, scene: &Scene, f: &Frame) {
         writeln!(out, "<title>{}</title>", xml(if scene.title.is_empty() { "Raydraft scene" } else { &scene.title }));
     let _ = writeln!(
         out,
-        r#"<rect x="{}" y="{}" width="{}" height="{}" fill="white"/>"#,
+        r#"<rect x="{}" y="{}" width="{}" height="{}" fill="{}"/>"#,
         num(f.vx),
         num(f.vy),
         num(f.vw),
-        num(f.vh)
+        num(f.vh),
+        hex(palette::SHEET)
     );
 }
 
 fn write_solids(out: &mut String, scene: &Scene, outlines: &[(usize, Vec<Vec2>)], f: &Frame) {
     let _ = writeln!(
         out,
-        r##"<g id="solids" fill="#9ecae1" fill-opacity="0.3" stroke="#3b6a8f" stroke-width="{}">"##,
+        r#"<g id="solids" fill-opacity="{}" stroke="{}" stroke-width="{}">"#,
+        palette::SOLID_FILL_OPACITY,
+        hex(palette::SOLID_STROKE),
         num(f.px(1.2))
     );
     for (i, pts) in outlines {
@@ -241,8 +243,9 @@ fn write_solids(out: &mut String, scene: &Scene, outlines: &[(usize, Vec<Vec2>)]
         };
         let _ = writeln!(
             out,
-            r#"<polygon points="{}"><title>{} ({})</title></polygon>"#,
+            r#"<polygon points="{}" fill="{}"><title>{} ({})</title></polygon>"#,
             points_attr(pts),
+            hex(material_tint(material)),
             xml(&o.name),
             xml(material)
         );
@@ -257,12 +260,17 @@ fn write_elements(out: &mut String, scene: &Scene, f: &Frame) {
     for o in &scene.objects {
         let title = format!("<title>{} ({})</title>", xml(&o.name), o.kind.word());
         let (path, style) = match &o.kind {
-            ObjectKind::Mirror(m) => (&m.path, format!(r##"stroke="#6b6b6b" stroke-width="{}""##, num(px(3.0)))),
-            ObjectKind::Absorber(a) => (&a.path, format!(r##"stroke="#111111" stroke-width="{}""##, num(px(3.5)))),
+            ObjectKind::Mirror(m) => {
+                (&m.path, format!(r#"stroke="{}" stroke-width="{}""#, hex(palette::MIRROR), num(px(3.0))))
+            }
+            ObjectKind::Absorber(a) => {
+                (&a.path, format!(r#"stroke="{}" stroke-width="{}""#, hex(palette::ABSORBER), num(px(3.5))))
+            }
             ObjectKind::Splitter(s) => (
                 &s.path,
                 format!(
-                    r##"stroke="#7b4f9d" stroke-width="{}" stroke-dasharray="{} {}""##,
+                    r#"stroke="{}" stroke-width="{}" stroke-dasharray="{} {}""#,
+                    hex(palette::SPLITTER),
                     num(px(2.5)),
                     num(px(6.0)),
                     num(px(3.0))
@@ -271,7 +279,8 @@ fn write_elements(out: &mut String, scene: &Scene, f: &Frame) {
             ObjectKind::Detector(d) => (
                 &d.path,
                 format!(
-                    r##"stroke="#1a9850" stroke-width="{}" stroke-dasharray="{} {}""##,
+                    r#"stroke="{}" stroke-width="{}" stroke-dasharray="{} {}""#,
+                    hex(palette::DETECTOR),
                     num(px(3.5)),
                     num(px(2.0)),
                     num(px(2.0))
@@ -304,7 +313,7 @@ fn write_rays(out: &mut String, trace: &Trace, n_drawn: usize, f: &Frame) {
     let principal = trace.mode == crate::scene::TraceMode::Principal;
     // Many overlapping rays would saturate: the full opacity falls as launched rays grow.
     let n_roots = trace.rays.iter().take(n_drawn).filter(|r| r.parent == NONE).count().max(1);
-    let base = (40.0 / n_roots as f64).sqrt().clamp(0.08, 0.9);
+    let base = palette::ray_base_opacity(n_roots);
     let _ = writeln!(out, r#"<g id="rays" fill="none" stroke-width="{}">"#, num(f.px(1.0)));
     for (k, ray) in trace.rays.iter().enumerate().take(n_drawn) {
         let evs = trace.events_of(ray);
@@ -317,8 +326,7 @@ fn write_rays(out: &mut String, trace: &Trace, n_drawn: usize, f: &Frame) {
             let e = &evs[i];
             let p = f64::from(e.after_s) + f64::from(e.after_p);
             let rel = if principal || launch <= 0.0 { 1.0 } else { p / launch };
-            let l = if rel > 0.0 { (1.0 + rel.log10() / DECADES).clamp(0.0, 1.0) } else { 0.0 };
-            (l * LEVELS).round() / LEVELS
+            palette::ray_level(rel, LEVELS)
         };
         let mut run: Vec<Vec2> = vec![evs[0].point];
         let mut level = level_of(0);
@@ -339,7 +347,7 @@ fn write_rays(out: &mut String, trace: &Trace, n_drawn: usize, f: &Frame) {
 /// Marks the points of total internal reflection on the drawn rays (at most `max_marks`);
 /// returns how many were marked.
 fn write_tir_marks(out: &mut String, trace: &Trace, n_drawn: usize, max_marks: usize, f: &Frame) -> usize {
-    let _ = writeln!(out, r##"<g id="tir" fill="#d7301f" fill-opacity="0.6">"##);
+    let _ = writeln!(out, r#"<g id="tir" fill="{}" fill-opacity="0.6">"#, hex(palette::TIR));
     let mut n_tir = 0;
     'rays: for ray in trace.rays.iter().take(n_drawn) {
         for e in trace.events_of(ray).iter().filter(|e| e.kind == EventKind::Tir) {
@@ -359,8 +367,7 @@ fn ray_polyline(out: &mut String, run: &[Vec2], colour: &str, level: f64, base: 
     if level <= 0.0 || run.len() < 2 {
         return;
     }
-    // The cube keeps the main paths clearly stronger than the faint branches.
-    let opacity = base * (0.05 + 0.95 * level.powi(3));
+    let opacity = palette::ray_opacity(level, base);
     let _ =
         writeln!(out, r#"<polyline points="{}" stroke="{colour}" stroke-opacity="{opacity:.3}"/>"#, points_attr(run));
 }
@@ -372,7 +379,12 @@ fn source_ui(out: &mut String, kind: &ObjectKind, title: &str, px: &dyn Fn(f64) 
     if g.iter().any(|p| !(p.x.is_finite() && p.y.is_finite())) {
         return;
     }
-    let style = format!(r##"stroke="#e08214" stroke-width="{}" fill="#fdb863""##, num(px(2.0)));
+    let style = format!(
+        r#"stroke="{}" stroke-width="{}" fill="{}""#,
+        hex(palette::SOURCE_STROKE),
+        num(px(2.0)),
+        hex(palette::SOURCE_FILL)
+    );
     match kind {
         ObjectKind::PointSource(_) => {
             let _ = writeln!(
@@ -473,15 +485,16 @@ fn legend(out: &mut String, scene: &Scene, trace: &Trace, n_drawn: usize, n_tir:
     let tir_label = if n_tir > 0 { "TIR point" } else { "TIR point (none here)" };
     let _ = writeln!(
         out,
-        r##"<circle cx="{}" cy="{}" r="{}" fill="#d7301f"/>"##,
+        r#"<circle cx="{}" cy="{}" r="{}" fill="{}"/>"#,
         num(x + px(3.0)),
         num(y - font * 0.35),
-        num(px(3.0))
+        num(px(3.0)),
+        hex(palette::TIR)
     );
     let _ = writeln!(out, r#"<text x="{}" y="{}">{tir_label}</text>"#, num(x + px(10.0)), num(y));
     let keys = [
         "Ray opacity: power relative to launch on a log scale (1 down to 1e-4).",
-        "Blue fill: refracting solid; grey: mirror; black: absorber; purple dashes: beam splitter; green dashes: detector; orange: source.",
+        "Tinted fill: refracting solid (one tint per material); grey: mirror; black: absorber; purple dashes: beam splitter; green dashes: detector; orange: source.",
     ];
     for (k, key) in keys.iter().enumerate() {
         let _ = writeln!(

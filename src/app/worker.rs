@@ -1,0 +1,128 @@
+//! Tracing in the background: the UI never waits for a trace.
+//!
+//! Every new scene revision asks for a trace. The newest revision wins: a stale trace that
+//! has been running for a while is cancelled and the new one started; a stale trace that has
+//! only just started is let finish (it is probably almost done and shows something close
+//! to the current scene), and the newest revision is traced right after it. Until a new
+//! trace finishes, the last finished one stays on screen.
+
+use std::sync::Arc;
+use std::sync::mpsc::{Receiver, TryRecvError, channel};
+use std::thread;
+use std::time::{Duration, Instant};
+
+use crate::scene::Scene;
+use crate::trace::{Control, Trace, TraceConfig, trace_with};
+
+/// A running trace that has been going this long is cancelled when a newer revision waits.
+const STALE_AFTER: Duration = Duration::from_millis(200);
+
+struct Running {
+    revision: u64,
+    control: Arc<Control>,
+    result: Receiver<Trace>,
+    started: Instant,
+}
+
+/// The background trace of the document.
+#[derive(Default)]
+pub struct TraceWorker {
+    running: Option<Running>,
+    shown: Option<Arc<Trace>>,
+    shown_revision: Option<u64>,
+    /// Wall time of the last finished trace.
+    pub last_duration: Option<Duration>,
+    /// The revision the user cancelled: not traced again until the next edit.
+    cancelled_revision: Option<u64>,
+    /// How many traces finished (a counter for the canvas cache and for tests).
+    pub n_finished: u64,
+    /// How many traces were started.
+    pub n_started: u64,
+}
+
+impl TraceWorker {
+    /// Call once a frame: collects a finished trace and starts the next if the scene changed.
+    /// Returns true while a trace is running (the caller should keep repainting).
+    pub fn update(&mut self, scene: &Scene, revision: u64) -> bool {
+        if let Some(r) = &self.running {
+            match r.result.try_recv() {
+                Ok(t) => {
+                    self.last_duration = Some(r.started.elapsed());
+                    self.shown_revision = Some(r.revision);
+                    self.shown = Some(Arc::new(t));
+                    self.n_finished += 1;
+                    self.running = None;
+                }
+                Err(TryRecvError::Disconnected) => self.running = None,
+                Err(TryRecvError::Empty) => {}
+            }
+        }
+        let wanted = self.shown_revision != Some(revision) && self.cancelled_revision != Some(revision);
+        if wanted {
+            match &self.running {
+                Some(r) if r.revision == revision => {}
+                Some(r) if r.started.elapsed() < STALE_AFTER => {}
+                _ => self.start(scene, revision),
+            }
+        }
+        self.running.is_some()
+    }
+
+    fn start(&mut self, scene: &Scene, revision: u64) {
+        if let Some(old) = self.running.take() {
+            old.control.cancel();
+        }
+        let control = Arc::new(Control::new());
+        let (tx, rx) = channel();
+        let c = Arc::clone(&control);
+        let scene = scene.clone();
+        let config = TraceConfig::from_scene(&scene);
+        thread::spawn(move || {
+            let t = trace_with(&scene, &config, &c);
+            // The receiver is gone when the job went stale; nothing to do then.
+            let _ = tx.send(t);
+        });
+        self.n_started += 1;
+        self.running = Some(Running { revision, control, result: rx, started: Instant::now() });
+    }
+
+    /// Stops the running trace; its partial result is shown when it arrives.
+    pub fn cancel(&mut self) {
+        if let Some(r) = &self.running {
+            r.control.cancel();
+            self.cancelled_revision = Some(r.revision);
+        }
+    }
+
+    /// The last finished trace, if any.
+    pub fn trace(&self) -> Option<&Arc<Trace>> {
+        self.shown.as_ref()
+    }
+
+    /// The scene revision the shown trace belongs to.
+    pub fn shown_revision(&self) -> Option<u64> {
+        self.shown_revision
+    }
+
+    pub fn is_running(&self) -> bool {
+        self.running.is_some()
+    }
+
+    /// Launched rays done and in all, and seconds elapsed, of the running trace.
+    pub fn progress(&self) -> Option<(u64, u64, f64)> {
+        self.running.as_ref().map(|r| {
+            let (done, total) = r.control.progress();
+            (done, total, r.started.elapsed().as_secs_f64())
+        })
+    }
+
+    /// Forgets everything (a new document).
+    pub fn reset(&mut self) {
+        if let Some(r) = self.running.take() {
+            r.control.cancel();
+        }
+        self.shown = None;
+        self.shown_revision = None;
+        self.cancelled_revision = None;
+    }
+}
