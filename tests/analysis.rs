@@ -571,3 +571,32 @@ fn a_sweep_of_source_power_matches_a_fresh_trace() {
     };
     assert!((rows[2].1 - fresh).abs() <= 1e-12 * fresh.abs().max(1.0), "{} vs {fresh}", rows[2].1);
 }
+
+#[test]
+fn optical_path_sums_index_times_length_through_nested_solids() {
+    use raydraft::analysis::{angle_deg, optical_path};
+    // A 20 × 10 mm slab of n = 1.5 with a 4 × 4 mm insert of n = 2.0 inside it. Along the
+    // line y = 0 from x = −5 to 25 the optical path length is Σ nᵢ·lᵢ (its definition: Born &
+    // Wolf 1999, Principles of Optics, 7th ed., §3.3.1, from memory):
+    // 5·1 + 8·1.5 + 4·2 + 8·1.5 + 5·1 = 42 mm.
+    let mut s = scene();
+    solid(&mut s, "slab", rect(10.0, 0.0, 20.0, 10.0), 1.5);
+    solid(&mut s, "insert", rect(10.0, 0.0, 4.0, 4.0), 2.0);
+    let compiled = raydraft::trace::Compiled::new(&s);
+    let o = optical_path(&s, &compiled, Vec2::new(-5.0, 0.0), Vec2::new(25.0, 0.0), 550.0).expect("a path");
+    assert!((o.length_mm - 30.0).abs() < 1e-12);
+    assert!((o.optical_mm - 42.0).abs() < 1e-9, "OPL {}", o.optical_mm);
+    let n: Vec<f64> = o.pieces.iter().map(|p| p.n).collect();
+    assert_eq!(n.len(), 5, "{o}");
+    for (got, want) in n.iter().zip([1.0, 1.5, 2.0, 1.5, 1.0]) {
+        assert!((got - want).abs() < 1e-12, "{o}");
+    }
+    // Starting inside the insert and going up: 2 mm of n = 2, 3 mm of n = 1.5, 5 mm of air.
+    let o = optical_path(&s, &compiled, Vec2::new(10.0, 0.0), Vec2::new(10.0, 10.0), 550.0).expect("a path");
+    assert!((o.optical_mm - (2.0 * 2.0 + 3.0 * 1.5 + 5.0)).abs() < 1e-9, "{o}");
+    // The angle between two arms, in degrees, whichever way round.
+    let c = Vec2::new(1.0, 1.0);
+    assert!((angle_deg(c, Vec2::new(3.0, 1.0), Vec2::new(3.0, 3.0)) - 45.0).abs() < 1e-12);
+    assert!((angle_deg(c, Vec2::new(3.0, 3.0), Vec2::new(3.0, 1.0)) - 45.0).abs() < 1e-12);
+    assert!((angle_deg(c, Vec2::new(2.0, 1.0), Vec2::new(-5.0, 1.0)) - 180.0).abs() < 1e-12);
+}

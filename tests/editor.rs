@@ -263,3 +263,156 @@ fn the_demo_scene_opens_and_traces() {
     assert!(t.budget.launched > 0.0);
     assert!(t.budget.closure_error() < 1e-9);
 }
+
+/// The square of `SQUARE` with one ray arriving at its left face (x = 0) at y = 10, 20°
+/// from the face's normal.
+const TILTED: &str = r#"(
+    version: 2,
+    title: "tilted",
+    next_id: 4,
+    objects: [
+        (id: 1, name: "block", kind: Solid((
+            shape: Outline(points: [(0.0, 0.0), (20.0, 0.0), (20.0, 20.0), (0.0, 20.0)]),
+            material: "pmma",
+        ))),
+        (id: 2, name: "beam", kind: BeamSource((
+            center: (-10.0, 6.360303), width: 0.001, direction_deg: 20.0,
+            emission: (rays: 1, power_w: 1.0, spectrum: [(nm: 550.0, weight: 1.0)]),
+        ))),
+        (id: 3, name: "screen", kind: Detector((path: (points: [(40.0, -20.0), (40.0, 40.0)])))),
+    ],
+)"#;
+
+#[test]
+fn clicking_a_ray_explains_its_refraction_with_snell_and_fresnel() {
+    let (app, _dir) = app_with(TILTED);
+    let mut h = harness(app);
+    wait_for_trace(&mut h);
+    h.state_mut().push(Command::SetTool(Tool::InspectRay));
+    h.step();
+    // A point on the incoming ray, in air.
+    let y = 10.0 - 5.0 * 20f64.to_radians().tan();
+    let p = screen(&h, -5.0, y);
+    click(&mut h, p);
+    h.step();
+    let app = h.state();
+    let x = app.analysis.ray.as_ref().and_then(|r| r.explanation.as_ref()).expect("the ray is explained");
+    let s = x.steps.iter().find(|s| s.kind == raydraft::trace::EventKind::Refract).expect("a refraction");
+    assert!((s.point - Vec2::new(0.0, 10.0)).norm() < 1e-4, "at {:?}", s.point);
+    let i = s.incidence_deg.expect("an angle");
+    assert!((i - 20.0).abs() < 1e-4, "incidence {i}");
+    // Snell's law, n₁ sin θ₁ = n₂ sin θ₂, and the Fresnel reflectance for s polarisation,
+    // Rs = ((n₁cos θ₁ − n₂cos θ₂)/(n₁cos θ₁ + n₂cos θ₂))² (Hecht 2017, Optics, 5th ed.,
+    // §4.6.2, from memory), worked out here from the indices the inspector shows.
+    let (n1, n2) = (s.n1, s.n2);
+    assert!((n1 - 1.0).abs() < 1e-12 && n2 > 1.45 && n2 < 1.52, "n {n1} -> {n2}");
+    let t = (n1 * i.to_radians().sin() / n2).asin();
+    assert!((s.refraction_deg.expect("refracted") - t.to_degrees()).abs() < 1e-9);
+    let (ci, ct) = (i.to_radians().cos(), t.cos());
+    let rs = ((n1 * ci - n2 * ct) / (n1 * ci + n2 * ct)).powi(2);
+    assert!((s.fresnel.expect("Fresnel").rs - rs).abs() < 1e-9);
+    // The inspector's window is open with its table.
+    let _ = h.get_by_label("Copy as text");
+}
+
+#[test]
+fn the_escape_cone_of_a_face_is_the_critical_angle() {
+    let (app, _dir) = app_with(SQUARE);
+    let mut h = harness(app);
+    wait_for_trace(&mut h);
+    h.state_mut().push(Command::SetTool(Tool::EscapeCone));
+    h.step();
+    let p = screen(&h, 20.0, 5.0);
+    click(&mut h, p);
+    h.step();
+    let app = h.state();
+    let pick = app.analysis.cone.as_ref().expect("a cone was picked");
+    let c = pick.cone.as_ref().expect("the cone");
+    let pmma = app.doc.scene.material("pmma").expect("pmma").index_rel_air(550.0);
+    assert!((c.n_inside - pmma).abs() < 1e-12);
+    assert!((c.n_outside - 1.0).abs() < 1e-12);
+    // The critical angle, sin θc = n₂/n₁ (Snell's law at a refraction angle of 90°).
+    assert!((c.half_angle_deg.expect("a cone") - (1.0 / pmma).asin().to_degrees()).abs() < 1e-9);
+    assert!((c.outward_normal - Vec2::new(1.0, 0.0)).norm() < 1e-9);
+    assert!((c.point - Vec2::new(20.0, 5.0)).norm() < 0.5);
+}
+
+#[test]
+fn the_optical_path_tool_sums_index_times_length() {
+    let (app, _dir) = app_with(SQUARE);
+    let mut h = harness(app);
+    wait_for_trace(&mut h);
+    h.state_mut().push(Command::SetTool(Tool::OpticalPath));
+    h.step();
+    for (x, y) in [(-5.0, 3.0), (25.0, 3.0)] {
+        let p = screen(&h, x, y);
+        click(&mut h, p);
+    }
+    h.step();
+    let app = h.state();
+    let text = format!("{:?}", app.analysis.measure);
+    let pmma = app.doc.scene.material("pmma").expect("pmma").index_rel_air(550.0);
+    // 5 mm of air, 20 mm of PMMA, 5 mm of air (points snap to the 1 mm grid).
+    let want = 5.0 + 20.0 * pmma + 5.0;
+    assert!(app.status.contains(&format!("{want:.4}")), "status {:?}, measure {text}", app.status);
+}
+
+#[test]
+fn a_row_of_escaped_light_marks_its_edge() {
+    let (app, _dir) = app_with(SQUARE);
+    let mut h = harness(app);
+    wait_for_trace(&mut h);
+    h.step();
+    let share = {
+        let app = h.state_mut();
+        let by = app.escaped_by_edge().expect("escaped light").clone();
+        by.shares.into_iter().find(|s| s.surface.is_some()).expect("light leaves through an edge")
+    };
+    let surface = share.surface.clone().expect("a surface");
+    h.get_by_label(&format!("edge {} of \"{}\"", surface.edge, surface.object)).click();
+    h.step();
+    h.step();
+    let app = h.state();
+    assert_eq!(app.analysis.highlight.as_ref(), Some(&surface));
+    assert_eq!(app.selection, vec![surface.object_id]);
+}
+
+#[test]
+fn a_sweep_runs_in_the_background_and_matches_the_library() {
+    let (app, _dir) = app_with(SQUARE);
+    let mut h = harness(app);
+    wait_for_trace(&mut h);
+    // Fold the panels above it so the sweep's controls are on screen.
+    for header in ["Properties", "Power budget", "Analysis", "Parameter sweep"] {
+        h.get_by_label(header).click();
+        // Let the panel's fold animation finish before the next click.
+        h.run_steps(20);
+    }
+    {
+        let s = &mut h.state_mut().sweep;
+        s.param = "beam.direction_deg".to_owned();
+        s.metric = "detected:screen".to_owned();
+        s.from = -30.0;
+        s.to = 30.0;
+        s.steps = 3;
+    }
+    h.step();
+    h.get_by_label("Run sweep").click();
+    for _ in 0..500 {
+        h.step();
+        if h.state().sweep.result.is_some() || h.state().sweep.error.is_some() {
+            break;
+        }
+        std::thread::sleep(Duration::from_millis(10));
+    }
+    let app = h.state();
+    let got = app.sweep.result.clone().unwrap_or_else(|| panic!("no result: {:?}", app.sweep.error));
+    let scene = &app.doc.scene;
+    let param = raydraft::analysis::ParamPath::parse(scene, "beam.direction_deg").expect("param");
+    let metric = raydraft::analysis::Metric::parse(scene, "detected:screen").expect("metric");
+    let want = raydraft::analysis::sweep(scene, &param, -30.0, 30.0, 3, &metric, &raydraft::trace::Control::new())
+        .expect("sweep");
+    assert_eq!(got.points, want);
+    assert!(!got.partial);
+    assert!(got.csv().starts_with("value,metric\n-30,"));
+}

@@ -3,11 +3,13 @@
 
 pub mod escape;
 pub mod explain;
+pub mod measure;
 pub mod sweep;
 pub mod uniformity;
 
 pub use escape::{EdgeShare, EscapeCone, EscapeError, EscapedByEdge, escape_cone, escape_cone_with, escaped_by_edge};
 pub use explain::{RayExplanation, Step, Surface, explain_ray, surface_edge};
+pub use measure::{OpticalPath, PathPiece, angle_deg, optical_path};
 pub use sweep::{Metric, ParamPath, SweepError, sweep, sweep_with};
 pub use uniformity::{Uniformity, detector_uniformity, uniformity};
 

@@ -17,5 +17,8 @@ pub fn about_ui(ctx: &egui::Context, open: &mut bool) {
         ui.add_space(6.0);
         ui.label(egui::RichText::new("Safety").strong());
         ui.label(SAFETY);
+        ui.add_space(6.0);
+        ui.label(egui::RichText::new("What 2D means").strong());
+        ui.label(super::budget::MEANING_2D);
     });
 }

@@ -8,7 +8,7 @@ use super::canvas::{self, CanvasState, View};
 use super::files::{self, Prefs};
 use super::tools::{self, Tool, ToolState};
 use super::worker::TraceWorker;
-use super::{Edit, Gesture, History, about, budget, materials, problems, properties};
+use super::{Edit, Gesture, History, about, budget, inspect, materials, problems, properties};
 use crate::scene::{Object, Scene, file};
 
 /// How to start the editor.
@@ -129,6 +129,10 @@ pub struct EditorApp {
     pub(crate) props_gesture: Option<u64>,
     pub problems: problems::ProblemsCache,
     pub materials: materials::MaterialsState,
+    /// The ray inspector, escape cones and measurements.
+    pub analysis: inspect::AnalysisState,
+    /// The parameter sweep panel.
+    pub sweep: super::sweep_ui::SweepState,
     /// True once the window may close (the user confirmed).
     close_confirmed: bool,
     last_title: String,
@@ -163,6 +167,8 @@ impl EditorApp {
             props_gesture: None,
             problems: problems::ProblemsCache::default(),
             materials: materials::MaterialsState::default(),
+            analysis: inspect::AnalysisState::default(),
+            sweep: super::sweep_ui::SweepState::default(),
             close_confirmed: false,
             last_title: String::new(),
             theme_set: false,
@@ -195,6 +201,7 @@ impl EditorApp {
         self.tool_state = ToolState::default();
         self.view.fit_pending = true;
         self.worker.reset();
+        self.analysis.clear();
     }
 
     pub fn open_demo(&mut self) {
@@ -555,6 +562,13 @@ impl EditorApp {
         if !self.theme_set {
             // A light theme around the light drawing sheet, like the exported pictures.
             ctx.set_theme(egui::Theme::Light);
+            // The default text font lacks a few signs the panels use (→); the monospace font
+            // has them, so it stands in for them.
+            let mut fonts = egui::FontDefinitions::default();
+            if let Some(family) = fonts.families.get_mut(&egui::FontFamily::Proportional) {
+                family.push("Hack".to_owned());
+            }
+            ctx.set_fonts(fonts);
             self.theme_set = true;
         }
         self.handle_close_request(&ctx);
@@ -602,6 +616,7 @@ impl EditorApp {
                 self.edit_menu_ui(ui);
                 self.view_menu_ui(ui);
                 tools::add_menu_ui(self, ui);
+                self.explain_menu_ui(ui);
                 ui.menu_button("Help", |ui| {
                     if ui.button("About Raydraft and safety").clicked() {
                         self.dialogs.about = true;
@@ -660,6 +675,20 @@ impl EditorApp {
         });
     }
 
+    fn explain_menu_ui(&mut self, ui: &mut egui::Ui) {
+        ui.menu_button("Explain", |ui| {
+            for t in Tool::ANALYSIS {
+                if ui.button(t.name()).on_hover_text(t.hint()).clicked() {
+                    self.push(Command::SetTool(t));
+                }
+            }
+            ui.separator();
+            if ui.add_enabled(!self.analysis.is_empty(), egui::Button::new("Clear marks")).clicked() {
+                self.analysis.clear();
+            }
+        });
+    }
+
     fn view_menu_ui(&mut self, ui: &mut egui::Ui) {
         ui.menu_button("View", |ui| {
             if ui.button("Fit scene to window").clicked() {
@@ -709,6 +738,10 @@ impl EditorApp {
         egui::CollapsingHeader::new("Detectors")
             .default_open(false)
             .show(ui, |ui| super::detectors::detectors_ui(self, ui));
+        egui::CollapsingHeader::new("Analysis").default_open(true).show(ui, |ui| inspect::analysis_panel_ui(self, ui));
+        egui::CollapsingHeader::new("Parameter sweep")
+            .default_open(false)
+            .show(ui, |ui| super::sweep_ui::sweep_ui(self, ui));
         egui::CollapsingHeader::new("Problems").default_open(true).show(ui, |ui| problems::problems_ui(self, ui));
         egui::CollapsingHeader::new("Trace settings")
             .default_open(false)
@@ -762,6 +795,7 @@ impl EditorApp {
                 None => {}
             }
         }
+        inspect::inspector_window_ui(self, ctx);
         if self.dialogs.about {
             about::about_ui(ctx, &mut self.dialogs.about);
         }

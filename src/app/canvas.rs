@@ -425,6 +425,7 @@ pub fn canvas_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
     let (rect, response) = ui.allocate_exact_size(ui.available_size(), Sense::click_and_drag());
     response.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Canvas, true, "Drawing canvas"));
     app.view.rect = rect;
+    super::inspect::refresh(app);
     let painter = ui.painter_at(rect);
     painter.rect_filled(rect, 0.0, rgb(palette::SHEET));
     app.geometry();
@@ -521,8 +522,27 @@ pub fn canvas_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
             }
         }
     }
+    // A selected outline of thousands of vertices would bury the drawing under handles and
+    // cost milliseconds to tessellate: draw only those on screen, and when they are crowded,
+    // leave out the edge middles and any vertex within a few points of the last one drawn.
+    // (All of them stay reachable: picking uses the full list.)
+    let visible = rect.expand(8.0);
+    let crowded = handles.iter().filter(|h| visible.contains(view.screen_from_scene(h.at))).count() > 2_000;
+    let mut last_drawn: Option<Pos2> = None;
     for h in &handles {
         let q = view.screen_from_scene(h.at);
+        if !visible.contains(q) {
+            continue;
+        }
+        if crowded {
+            if matches!(h.kind, HandleKind::EdgeMiddle(_)) {
+                continue;
+            }
+            if last_drawn.is_some_and(|l| (l - q).length() < 6.0) {
+                continue;
+            }
+            last_drawn = Some(q);
+        }
         let selected_vertex = matches!(h.kind, HandleKind::Vertex(v) if app.selected_vertex == Some((h.id, v)));
         match h.kind {
             HandleKind::EdgeMiddle(_) => {
@@ -591,6 +611,7 @@ pub fn canvas_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
         }
     }
 
+    super::inspect::overlay_ui(app, &painter);
     view_rays::overlay_ui(app, ui, rect);
 }
 
@@ -786,7 +807,7 @@ fn grid_ui(painter: &egui::Painter, view: &View, grid_mm: f64) {
     );
 }
 
-fn dashed(painter: &egui::Painter, pts: &[Pos2], colour: Color32, width: f32, dash: f32, gap: f32) {
+pub(crate) fn dashed(painter: &egui::Painter, pts: &[Pos2], colour: Color32, width: f32, dash: f32, gap: f32) {
     painter.extend(Shape::dashed_line(pts, Stroke::new(width, colour), dash, gap));
 }
 

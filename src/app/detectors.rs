@@ -33,8 +33,35 @@ fn plot_ui(
         });
 }
 
-pub fn detectors_ui(app: &EditorApp, ui: &mut egui::Ui) {
-    let Some(t) = app.worker.trace() else {
+/// Irradiance and intensity bins of a detector as CSV: one row per bin, the total and each
+/// wavelength.
+pub fn detector_csv(d: &DetectorResult, wavelengths: &[f64], bins: u32, angle_bins: u32) -> String {
+    use std::fmt::Write as _;
+    let mut out = String::new();
+    let table = |out: &mut String, x: &str, unit: &str, f: &dyn Fn(&DetectorResult) -> Vec<analysis::Bin>| {
+        let total = f(d);
+        let per: Vec<Vec<analysis::Bin>> = wavelengths.iter().map(|&nm| f(&at_wavelength(d, nm))).collect();
+        let _ = write!(out, "{x},total_{unit}");
+        for nm in wavelengths {
+            let _ = write!(out, ",nm{nm}_{unit}");
+        }
+        out.push('\n');
+        for (k, b) in total.iter().enumerate() {
+            let _ = write!(out, "{},{}", b.centre, b.density);
+            for p in &per {
+                let _ = write!(out, ",{}", p.get(k).map_or(0.0, |b| b.density));
+            }
+            out.push('\n');
+        }
+    };
+    table(&mut out, "position_mm", "w_per_mm", &|x| analysis::irradiance(x, bins));
+    out.push('\n');
+    table(&mut out, "angle_deg", "w_per_deg", &|x| analysis::intensity(x, angle_bins));
+    out
+}
+
+pub fn detectors_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
+    let Some(t) = app.worker.trace().cloned() else {
         ui.label("Tracing…");
         return;
     };
@@ -46,13 +73,18 @@ pub fn detectors_ui(app: &EditorApp, ui: &mut egui::Ui) {
         let (bins, angle_bins) = analysis::detector_bins(&app.doc.scene, d);
         ui.label(egui::RichText::new(&d.name).strong());
         let per = |f: &dyn Fn(&DetectorResult) -> Vec<analysis::Bin>| -> Vec<(String, [u8; 3], Vec<[f64; 2]>)> {
-            t.wavelengths
+            let mut lines: Vec<(String, [u8; 3], Vec<[f64; 2]>)> = t
+                .wavelengths
                 .iter()
                 .map(|&nm| {
                     let bins = f(&at_wavelength(d, nm));
                     (format!("{nm} nm"), wavelength_rgb(nm), bins.iter().map(|b| [b.centre, b.density]).collect())
                 })
-                .collect()
+                .collect();
+            if lines.len() > 1 {
+                lines.push(("total".to_owned(), [30, 30, 30], f(d).iter().map(|b| [b.centre, b.density]).collect()));
+            }
+            lines
         };
         plot_ui(
             ui,
@@ -68,5 +100,29 @@ pub fn detectors_ui(app: &EditorApp, ui: &mut egui::Ui) {
             "W/°",
             per(&|x| analysis::intensity(x, angle_bins)),
         );
+        match analysis::uniformity(&analysis::irradiance(d, bins)) {
+            Some(u) => {
+                ui.label(
+                    egui::RichText::new(format!(
+                        "Uniformity over {bins} bins: min/max {:.3}, min/mean {:.3}, coefficient of variation {:.3}",
+                        u.min_over_max, u.min_over_mean, u.cv
+                    ))
+                    .small(),
+                );
+            }
+            None => {
+                ui.label(egui::RichText::new("No light on this detector.").small().weak());
+            }
+        }
+        if ui.button(format!("Save {} as CSV…", d.name)).clicked() {
+            let name = format!("{}.csv", d.name.replace(|c: char| !c.is_alphanumeric() && c != '-', "_"));
+            let path = super::sweep_ui::csv_dialog(&name).unwrap_or_else(|| std::path::PathBuf::from(&name));
+            let text = detector_csv(d, &t.wavelengths, bins, angle_bins);
+            app.status = match super::sweep_ui::write_text(&path, &text) {
+                Ok(()) => format!("Wrote {}", path.display()),
+                Err(e) => format!("Detector CSV not written: {e}"),
+            };
+        }
+        ui.separator();
     }
 }

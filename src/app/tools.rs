@@ -32,6 +32,16 @@ pub enum Tool {
     PointSource,
     Beam,
     Lambertian,
+    /// Click a ray to explain its path.
+    InspectRay,
+    /// Click a solid's boundary to see which directions leave through it.
+    EscapeCone,
+    /// Two clicks: the distance between them.
+    MeasureDistance,
+    /// Three clicks: the corner, then a point on each arm.
+    MeasureAngle,
+    /// Two clicks: the optical path length Σ n·length along the straight line between them.
+    OpticalPath,
 }
 
 impl Tool {
@@ -54,6 +64,15 @@ impl Tool {
         Tool::Lambertian,
     ];
 
+    /// The tools that explain and measure instead of placing objects.
+    pub const ANALYSIS: [Tool; 5] =
+        [Tool::InspectRay, Tool::EscapeCone, Tool::MeasureDistance, Tool::MeasureAngle, Tool::OpticalPath];
+
+    /// Whether this tool explains or measures (it never changes the scene).
+    pub fn is_analysis(self) -> bool {
+        Self::ANALYSIS.contains(&self)
+    }
+
     pub fn name(self) -> &'static str {
         match self {
             Tool::Select => "Select",
@@ -72,6 +91,11 @@ impl Tool {
             Tool::PointSource => "Point source",
             Tool::Beam => "Beam",
             Tool::Lambertian => "Lambertian emitter",
+            Tool::InspectRay => "Inspect ray",
+            Tool::EscapeCone => "Escape cone",
+            Tool::MeasureDistance => "Distance",
+            Tool::MeasureAngle => "Angle",
+            Tool::OpticalPath => "Optical path",
         }
     }
 
@@ -87,6 +111,11 @@ impl Tool {
             }
             Tool::Beam => "Click to place the beam's centre; drag to aim it",
             Tool::PointSource => "Click to place; drag to aim its middle direction",
+            Tool::InspectRay => "Click a ray to list every event on its path and mark the angles on the canvas",
+            Tool::EscapeCone => "Click a solid's boundary to draw the directions that can leave through it",
+            Tool::MeasureDistance => "Click two points",
+            Tool::MeasureAngle => "Click the corner, then a point on each arm",
+            Tool::OpticalPath => "Click two points: Σ n·length along the line between them",
             _ => "Click to place with standard sizes; change them in Properties",
         }
     }
@@ -137,7 +166,13 @@ pub fn new_object(tool: Tool, a: Vec2, b: Vec2) -> Option<(&'static str, ObjectK
     let solid = |shape: Shape| ObjectKind::Solid(Solid { shape, material: DEFAULT_MATERIAL.to_owned() });
     let angle = (b - a).y.atan2((b - a).x).to_degrees();
     Some(match tool {
-        Tool::Select | Tool::Solid => return None,
+        Tool::Select
+        | Tool::Solid
+        | Tool::InspectRay
+        | Tool::EscapeCone
+        | Tool::MeasureDistance
+        | Tool::MeasureAngle
+        | Tool::OpticalPath => return None,
         Tool::Rectangle => {
             let (c, w, h) = if click { (a, 20.0, 10.0) } else { ((a + b) / 2.0, (b.x - a.x).abs(), (b.y - a.y).abs()) };
             if w <= 0.0 || h <= 0.0 {
@@ -271,6 +306,10 @@ pub fn close_solid(app: &mut EditorApp) {
 
 /// Pointer handling for every tool but Select.
 pub fn tool_interact(app: &mut EditorApp, ui: &egui::Ui, response: &egui::Response, p_mm: Vec2, clicked: bool) {
+    if app.tool.is_analysis() {
+        super::inspect::tool_interact(app, p_mm, clicked);
+        return;
+    }
     let view = app.view.clone();
     let snapped = app.snap(p_mm);
     if app.tool == Tool::Solid {
@@ -335,7 +374,7 @@ pub fn tool_preview_ui(app: &EditorApp, painter: &egui::Painter) {
             painter.circle_filled(view.screen_from_scene(*p), 3.0, stroke.color);
         }
     }
-    if app.tool != Tool::Select {
+    if app.tool != Tool::Select && !app.tool.is_analysis() {
         if let super::canvas::Drag::Draw { start } = app.canvas.drag {
             if let Some((_, kind)) = new_object(app.tool, start, cursor) {
                 let g = super::pick::object_geometry(0, &kind);
@@ -360,7 +399,7 @@ pub fn tool_preview_ui(app: &EditorApp, painter: &egui::Painter) {
 /// The toolbox on the left.
 pub fn toolbox_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
     ui.add_space(4.0);
-    let groups: [(&str, &[Tool]); 4] = [
+    let groups: [(&str, &[Tool]); 5] = [
         ("", &[Tool::Select]),
         (
             "Solids",
@@ -377,6 +416,7 @@ pub fn toolbox_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
         ),
         ("Thin elements", &[Tool::Mirror, Tool::Absorber, Tool::Splitter, Tool::Detector]),
         ("Sources", &[Tool::PointSource, Tool::Beam, Tool::Lambertian]),
+        ("Explain and measure", &Tool::ANALYSIS),
     ];
     for (title, tools) in groups {
         if !title.is_empty() {

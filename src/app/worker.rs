@@ -5,14 +5,18 @@
 //! only just started is let finish (it is probably almost done and shows something close
 //! to the current scene), and the newest revision is traced right after it. Until a new
 //! trace finishes, the last finished one stays on screen.
+//!
+//! The compiled scene (BVH, media, checked outlines) is kept between traces and brought up
+//! to date with [`Compiled::update`] on the worker thread, so dragging one vertex refits the
+//! BVH and re-checks one solid instead of compiling the whole scene again.
 
-use std::sync::Arc;
 use std::sync::mpsc::{Receiver, TryRecvError, channel};
+use std::sync::{Arc, Mutex};
 use std::thread;
 use std::time::{Duration, Instant};
 
 use crate::scene::Scene;
-use crate::trace::{Control, Trace, TraceConfig, trace_with};
+use crate::trace::{Compiled, Control, Trace, TraceConfig, trace_compiled};
 
 /// A running trace that has been going this long is cancelled when a newer revision waits.
 const STALE_AFTER: Duration = Duration::from_millis(200);
@@ -38,6 +42,9 @@ pub struct TraceWorker {
     pub n_finished: u64,
     /// How many traces were started.
     pub n_started: u64,
+    /// The compiled form of the last traced revision, taken by the next trace and given back
+    /// when it is done (a trace that finds it taken compiles from scratch).
+    compiled: Arc<Mutex<Option<Compiled>>>,
 }
 
 impl TraceWorker {
@@ -77,8 +84,24 @@ impl TraceWorker {
         let c = Arc::clone(&control);
         let scene = scene.clone();
         let config = TraceConfig::from_scene(&scene);
+        let slot = Arc::clone(&self.compiled);
         thread::spawn(move || {
-            let t = trace_with(&scene, &config, &c);
+            // A poisoned lock only means another trace thread panicked; the slot is still
+            // a valid `Option`, so take it anyway.
+            let kept = slot.lock().unwrap_or_else(std::sync::PoisonError::into_inner).take();
+            let compiled = match kept {
+                Some(mut c) => {
+                    c.update(&scene);
+                    c
+                }
+                None => Compiled::new(&scene),
+            };
+            let t = trace_compiled(&scene, &compiled, &config, &c);
+            let mut guard = slot.lock().unwrap_or_else(std::sync::PoisonError::into_inner);
+            if guard.is_none() {
+                *guard = Some(compiled);
+            }
+            drop(guard);
             // The receiver is gone when the job went stale; nothing to do then.
             let _ = tx.send(t);
         });
@@ -124,5 +147,7 @@ impl TraceWorker {
         self.shown = None;
         self.shown_revision = None;
         self.cancelled_revision = None;
+        // A new document: nothing of the old compiled scene can be reused.
+        *self.compiled.lock().unwrap_or_else(std::sync::PoisonError::into_inner) = None;
     }
 }
