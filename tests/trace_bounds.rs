@@ -109,3 +109,24 @@ fn a_first_ray_longer_than_the_cap_is_kept_cut_short() {
     let t = trace(&s, &c);
     assert!(t.rays.is_empty() && t.events.is_empty());
 }
+
+#[test]
+fn a_huge_spectral_weight_beside_a_small_one_shares_the_power_finitely() {
+    // Found by tests/file_fuzz.rs: weights 1e308 and 7 add up to a finite number, but
+    // power × weight overflowed before the division and the budget became infinite.
+    let text = r#"(
+        version: 1,
+        title: "one huge weight",
+        objects: [
+            (id: 1, name: "beam", kind: BeamSource((center: (0.0, 0.0), width: 1.0, direction_deg: 0.0,
+                emission: (rays: 3, power_w: 3.5, spectrum: [(nm: 500.0, weight: 1e308), (nm: 600.0, weight: 7)])))),
+        ],
+    )"#;
+    let scene = raydraft::scene::file::from_str(text, "weights.ron").expect("loads").scene;
+    let t = raydraft::trace::trace(&scene, &raydraft::trace::TraceConfig::from_scene(&scene));
+    let b = &t.budget;
+    assert!((b.launched - 3.5).abs() < 1e-12, "launched {}", b.launched);
+    assert!(b.closure_error() <= 1e-12);
+    // The 600 nm line's share, 7/1e308 of the power, rounds to nothing; all of it escapes.
+    assert!((b.escaped - 3.5).abs() < 1e-12);
+}

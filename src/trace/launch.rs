@@ -83,7 +83,8 @@ impl<'a> Launcher<'a> {
             let total_weight: f64 = emission.spectrum.iter().map(|l| l.weight).sum();
             for (li, line) in emission.spectrum.iter().enumerate() {
                 let Some(w) = compiled.wavelengths.iter().position(|&x| x == line.nm) else { continue };
-                let per_ray = emission.power_w * line.weight / total_weight / f64::from(n);
+                // The share first: weight × power could overflow where the share cannot (weight ≤ total).
+                let per_ray = emission.power_w * (line.weight / total_weight) / f64::from(n);
                 let (s, p) = match emission.polarization {
                     Polarization::Unpolarized => (per_ray / 2.0, per_ray / 2.0),
                     Polarization::S => (per_ray, 0.0),
