@@ -6,7 +6,8 @@
 //!
 //! The number of cases defaults to a few thousand so the suite stays quick; set
 //! `RAYDRAFT_FUZZ_CASES` for a long run, e.g.
-//! `RAYDRAFT_FUZZ_CASES=200000 cargo test --release --test file_fuzz -- --nocapture`.
+//! `RAYDRAFT_FUZZ_CASES=300000 cargo test --test file_fuzz -- --nocapture`, and
+//! `RAYDRAFT_FUZZ_SEED` for another sequence of mutants.
 //! (A coverage-guided fuzzer such as cargo-fuzz needs a nightly toolchain, which the project's
 //! machines do not have; this stable, reproducible loop stands in for it.)
 
@@ -130,7 +131,8 @@ fn mutated_files_never_panic_and_every_trace_closes() {
     let seeds = seeds();
     assert!(seeds.len() >= 20, "the demo scenes and test files are the fuzzing seeds");
     let cases: usize = std::env::var("RAYDRAFT_FUZZ_CASES").ok().and_then(|v| v.parse().ok()).unwrap_or(10_000);
-    let mut rng = Rng::new(0x5eed_f11e);
+    let seed = std::env::var("RAYDRAFT_FUZZ_SEED").ok().and_then(|v| v.parse().ok()).unwrap_or(0x5eed_f11e);
+    let mut rng = Rng::new(seed);
     let (mut loaded, mut refused, mut traced) = (0usize, 0usize, 0usize);
     for case in 0..cases {
         let (name, text) = &seeds[rng.below(seeds.len())];

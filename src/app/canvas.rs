@@ -152,6 +152,8 @@ pub struct CanvasState {
     space_down: bool,
     /// Where the primary button went down on the canvas, for click detection.
     press_at: Option<Pos2>,
+    /// Some solid fills are from before the drag in progress.
+    fills_stale: bool,
 }
 
 impl CanvasState {
@@ -188,8 +190,22 @@ impl EditorApp {
         let rev = self.doc.revision;
         if self.canvas.geometry.as_ref().is_none_or(|(r, _, _)| *r != rev) {
             let geoms = pick::scene_geometry(&self.doc.scene);
-            let fills = solid_fills(&self.doc.scene, &geoms);
+            // Filling an outline of many vertices costs milliseconds (ear clipping is
+            // quadratic); while something is dragged, large solids keep their last fill and
+            // are filled again when the drag ends.
+            let keep = if self.canvas.drag == Drag::None {
+                Vec::new()
+            } else {
+                self.canvas.geometry.take().map(|(_, _, f)| f).unwrap_or_default()
+            };
+            let fills = solid_fills(&self.doc.scene, &geoms, keep);
             self.canvas.geometry = Some((rev, geoms, fills));
+            self.canvas.fills_stale = self.canvas.drag != Drag::None;
+        } else if self.canvas.fills_stale && self.canvas.drag == Drag::None {
+            if let Some((_, geoms, fills)) = &mut self.canvas.geometry {
+                *fills = solid_fills(&self.doc.scene, geoms, Vec::new());
+            }
+            self.canvas.fills_stale = false;
         }
     }
 
@@ -204,13 +220,22 @@ impl EditorApp {
     }
 }
 
-fn solid_fills(scene: &Scene, geoms: &[ObjectGeom]) -> Vec<SolidFill> {
+/// Outlines with more points than this keep their old fill during a drag.
+const REFILL_LATER: usize = 400;
+
+fn solid_fills(scene: &Scene, geoms: &[ObjectGeom], mut keep: Vec<SolidFill>) -> Vec<SolidFill> {
     geoms
         .iter()
         .zip(&scene.objects)
         .filter_map(|(g, o)| {
             let ObjectKind::Solid(s) = &o.kind else { return None };
-            let mut points = g.lines.first()?.clone();
+            let line = g.lines.first()?;
+            if line.len() > REFILL_LATER {
+                if let Some(k) = keep.iter().position(|f| f.id == g.id) {
+                    return Some(keep.swap_remove(k));
+                }
+            }
+            let mut points = line.clone();
             points.pop();
             let triangles = triangulate(&points);
             Some(SolidFill { id: g.id, points, triangles, tint: palette::material_tint(&s.material) })
