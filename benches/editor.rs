@@ -29,7 +29,7 @@ fn harness(scene_file: Option<&str>) -> (Harness<'static, EditorApp>, Option<tem
         }
         None => (None, None),
     };
-    let mut app = EditorApp::new(Options { file, prefs_path: None });
+    let mut app = EditorApp::new(Options { file, ..Options::default() });
     let id = app.doc.scene.objects.iter().find(|o| matches!(o.kind, ObjectKind::Solid(_))).map_or(1, |o| o.id);
     app.push(Command::Select(vec![id]));
     app.push(Command::MakeFreeOutline);

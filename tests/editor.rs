@@ -31,7 +31,7 @@ fn app_with(text: &str) -> (EditorApp, tempfile::TempDir) {
     let dir = tempfile::tempdir().expect("temp dir");
     let path = dir.path().join("square.ron");
     std::fs::write(&path, text).expect("write scene");
-    (EditorApp::new(Options { file: Some(path), prefs_path: None }), dir)
+    (EditorApp::new(Options { file: Some(path), ..Options::default() }), dir)
 }
 
 fn harness(mut app: EditorApp) -> Harness<'static, EditorApp> {
@@ -195,7 +195,7 @@ fn saving_and_reopening_gives_the_same_scene() {
     h.step();
     assert!(!h.state().doc.is_modified());
     assert_eq!(block_points(h.state()).0[0], (1.0, 0.0));
-    let reopened = EditorApp::new(Options { file: Some(out), prefs_path: None });
+    let reopened = EditorApp::new(Options { file: Some(out), ..Options::default() });
     assert_eq!(reopened.doc.scene, h.state().doc.scene);
 }
 
@@ -415,4 +415,137 @@ fn a_sweep_runs_in_the_background_and_matches_the_library() {
     assert_eq!(got.points, want);
     assert!(!got.partial);
     assert!(got.csv().starts_with("value,metric\n-30,"));
+
+/// Whether the window title shows the modified marker.
+fn marked_modified(h: &Harness<'_, EditorApp>) -> bool {
+    let app = h.state();
+    assert_eq!(app.title().contains('•'), app.doc.is_modified());
+    app.doc.is_modified()
+}
+
+#[test]
+fn undoing_back_to_the_saved_scene_clears_the_modified_marker() {
+    let (app, _dir) = app_with(SQUARE);
+    let mut h = harness(app);
+    h.step();
+    h.state_mut().push(Command::Select(vec![1]));
+    h.step();
+    assert!(!marked_modified(&h));
+    h.key_press(egui::Key::ArrowRight);
+    h.step();
+    assert!(marked_modified(&h));
+    h.key_press_modifiers(Modifiers::COMMAND, egui::Key::Z);
+    h.step();
+    assert!(!marked_modified(&h), "undone back to the saved scene");
+    h.key_press_modifiers(Modifiers::COMMAND | Modifiers::SHIFT, egui::Key::Z);
+    h.step();
+    assert!(marked_modified(&h), "redone: modified again");
+    // Two edits that cancel out leave the document as saved, too.
+    h.key_press(egui::Key::ArrowLeft);
+    h.step();
+    h.step();
+    assert_eq!(block_points(h.state()).0[0], (0.0, 0.0));
+    assert!(!marked_modified(&h));
+    // After a save the saved state moves: undoing past it is a change again.
+    h.key_press(egui::Key::ArrowUp);
+    h.step();
+    h.state_mut().push(Command::Save);
+    h.step();
+    assert!(!marked_modified(&h));
+    h.state_mut().push(Command::Undo);
+    h.step();
+    assert!(marked_modified(&h));
+}
+
+/// A folder this process cannot create files in: a temporary folder made read-only, or,
+/// where permissions do not bind (tests run as root), a folder of the kernel's sysfs.
+#[cfg(unix)]
+fn unwritable_dir(tmp: &std::path::Path) -> Option<std::path::PathBuf> {
+    use std::os::unix::fs::PermissionsExt;
+    let dir = tmp.join("read-only");
+    std::fs::create_dir(&dir).expect("folder");
+    std::fs::set_permissions(&dir, std::fs::Permissions::from_mode(0o555)).expect("read-only");
+    let writable = |d: &std::path::Path| {
+        let probe = d.join("raydraft-probe.ron");
+        let ok = std::fs::write(&probe, "x").is_ok();
+        let _ = std::fs::remove_file(&probe);
+        ok
+    };
+    [dir, std::path::PathBuf::from("/sys")].into_iter().find(|d| d.is_dir() && !writable(d))
+}
+
+#[cfg(unix)]
+#[test]
+fn saving_into_a_read_only_folder_keeps_the_document_and_says_why() {
+    let (app, dir) = app_with(SQUARE);
+    let Some(read_only) = unwritable_dir(dir.path()) else {
+        eprintln!("skipped: no folder here refuses writing (running as root without sysfs)");
+        return;
+    };
+    let mut h = harness(app);
+    h.step();
+    h.state_mut().push(Command::Select(vec![1]));
+    h.step();
+    h.key_press(egui::Key::ArrowRight);
+    h.step();
+    let before = h.state().doc.scene.clone();
+    let target = read_only.join("moved.ron");
+    h.state_mut().push(Command::SaveAs(target.clone()));
+    // The error window measures itself in its first frame and shows in the next.
+    h.run_steps(3);
+    let app = h.state();
+    assert!(app.doc.is_modified(), "a failed save must leave the document modified");
+    assert_eq!(app.doc.scene, before, "and intact");
+    assert_eq!(app.doc.path.as_deref(), Some(dir.path().join("square.ron").as_path()), "and on its own file");
+    let error = app.dialogs.error.clone().expect("an error is shown");
+    assert!(error.contains(&target.display().to_string()), "names the file: {error}");
+    assert!(error.contains("permission denied") || error.contains("read-only"), "says why: {error}");
+    assert!(h.query_by_label_contains("Could not save").is_some(), "the error window is on screen");
+    assert!(!target.exists());
+}
+
+#[test]
+fn saving_over_a_file_changed_on_disk_asks_first() {
+    let (app, dir) = app_with(SQUARE);
+    let path = dir.path().join("square.ron");
+    let mut h = harness(app);
+    h.step();
+    h.state_mut().push(Command::Select(vec![1]));
+    h.step();
+    h.key_press(egui::Key::ArrowRight);
+    h.step();
+    // Someone else changes the file meanwhile.
+    let theirs = SQUARE.replace("title: \"square\"", "title: \"their square\"");
+    std::fs::write(&path, &theirs).expect("their change");
+    h.key_press_modifiers(Modifiers::COMMAND, egui::Key::S);
+    h.step();
+    h.step();
+    assert!(h.state().dialogs.save_conflict.is_some(), "no question asked");
+    assert!(h.query_by_label_contains("was changed by another program").is_some());
+    h.get_by_label("Cancel").click();
+    h.step();
+    h.step();
+    assert!(h.state().dialogs.save_conflict.is_none());
+    assert!(h.state().doc.is_modified());
+    assert_eq!(std::fs::read_to_string(&path).expect("read"), theirs, "cancel keeps their file");
+
+    // Overwrite replaces their change with the document.
+    h.key_press_modifiers(Modifiers::COMMAND, egui::Key::S);
+    h.step();
+    h.step();
+    h.get_by_label("Overwrite").click();
+    h.step();
+    h.step();
+    assert!(!h.state().doc.is_modified());
+    let saved = raydraft::scene::file::load(&path).expect("saved file");
+    assert_eq!(saved.scene, h.state().doc.scene);
+    h.key_press(egui::Key::ArrowRight);
+    h.step();
+    let text = std::fs::read(&path).expect("read");
+    std::fs::write(&path, &text).expect("rewrite the same bytes");
+    h.key_press_modifiers(Modifiers::COMMAND, egui::Key::S);
+    h.step();
+    h.step();
+    assert!(h.state().dialogs.save_conflict.is_none(), "the same bytes are no change");
+    assert!(!h.state().doc.is_modified());
 }

@@ -1,23 +1,37 @@
 //! The editor's state and the commands that change it.
 
-use std::path::PathBuf;
+use std::cell::Cell;
+use std::path::{Path, PathBuf};
+use std::time::Duration;
 
 use egui::{Key, KeyboardShortcut, Modifiers};
 
 use super::canvas::{self, CanvasState, View};
-use super::files::{self, Prefs};
+use super::files::{self, DiskStamp, Prefs};
+use super::recovery::{self, Autosave, DocState, PanicSlot, RecoveryCopy};
 use super::tools::{self, Tool, ToolState};
 use super::worker::TraceWorker;
 use super::{Edit, Gesture, History, about, budget, inspect, materials, problems, properties};
 use crate::scene::{Object, Scene, file};
 
 /// How to start the editor.
-#[derive(Clone, Debug, Default)]
+#[derive(Clone, Debug)]
 pub struct Options {
     /// A scene file to open; `None` opens the demo scene.
     pub file: Option<PathBuf>,
     /// Where to keep settings between runs; `None` keeps them for this run only.
     pub prefs_path: Option<PathBuf>,
+    /// Where recovery copies of unsaved work live (see [`recovery`](super::recovery));
+    /// `None` neither writes nor offers any.
+    pub state_dir: Option<PathBuf>,
+    /// How often unsaved work is written to the recovery copy.
+    pub autosave_every: Duration,
+}
+
+impl Default for Options {
+    fn default() -> Self {
+        Self { file: None, prefs_path: None, state_dir: None, autosave_every: recovery::DEFAULT_INTERVAL }
+    }
 }
 
 /// Something the UI asks for during a frame; applied once at the end of the frame.
@@ -60,6 +74,8 @@ pub enum Guarded {
     Open(PathBuf),
     OpenDialog,
     OpenDemo,
+    /// Open a recovery copy as the document (see [`EditorApp::restore`]).
+    Restore(PathBuf),
     Quit,
 }
 
@@ -70,13 +86,48 @@ pub struct Document {
     pub history: History,
     /// Bumped by every change to the scene (edits, undo, redo, a new document); never reset.
     pub revision: u64,
-    /// The revision last saved or loaded.
-    pub saved_revision: u64,
+    /// The revision last saved or loaded; `None` when the scene on screen never was (a
+    /// restored recovery copy).
+    pub saved_revision: Option<u64>,
+    /// The scene as last saved or loaded (for a restored copy: its file as it is on disk),
+    /// so that undoing back to it shows the document unmodified.
+    saved_scene: Option<Scene>,
+    /// The file as last loaded or saved: a save over a file changed since asks first.
+    pub disk: Option<DiskStamp>,
+    /// `is_modified` of one revision, so the scenes are compared once per change.
+    modified_cache: Cell<Option<(u64, bool)>>,
 }
 
 impl Document {
+    /// Whether the scene differs from what was last saved or loaded. Undoing back to the
+    /// saved content counts as unmodified, redoing as modified again.
     pub fn is_modified(&self) -> bool {
-        self.revision != self.saved_revision
+        if self.saved_revision == Some(self.revision) {
+            return false;
+        }
+        match self.modified_cache.get() {
+            Some((revision, modified)) if revision == self.revision => modified,
+            _ => {
+                let modified = self.saved_scene.as_ref().is_none_or(|s| !s.same_content(&self.scene));
+                self.modified_cache.set(Some((self.revision, modified)));
+                modified
+            }
+        }
+    }
+
+    /// Marks the scene on screen as the one in the file.
+    fn mark_saved(&mut self, disk: Option<DiskStamp>) {
+        self.saved_revision = Some(self.revision);
+        self.saved_scene = Some(self.scene.clone());
+        self.disk = disk;
+        self.modified_cache.set(None);
+    }
+
+    /// Whether `path` names this document's file.
+    fn is_own_file(&self, path: &Path) -> bool {
+        self.path.as_deref().is_some_and(|own| {
+            own == path || matches!((own.canonicalize(), path.canonicalize()), (Ok(a), Ok(b)) if a == b)
+        })
     }
 
     /// The file's name, or "untitled".
@@ -103,6 +154,20 @@ pub struct Dialogs {
     pub rotate_deg: f64,
     /// The last error, shown until dismissed.
     pub error: Option<String>,
+    /// Recovery copies left by editors that stopped without saving, offered one at a time.
+    pub recovery_offers: Vec<RecoveryCopy>,
+    /// A save over a file that changed on disk, waiting for the user's answer.
+    pub save_conflict: Option<SaveConflict>,
+}
+
+/// A save that would replace changes someone else made to the file.
+#[derive(Clone, Debug)]
+pub struct SaveConflict {
+    pub path: PathBuf,
+    /// How the file changed, in words.
+    pub change: String,
+    /// What to do after the save (the user was quitting or opening another file).
+    pub then: Option<Guarded>,
 }
 
 /// The whole editor.
@@ -137,6 +202,8 @@ pub struct EditorApp {
     close_confirmed: bool,
     last_title: String,
     theme_set: bool,
+    /// Writes recovery copies of unsaved work; `None` without a state folder.
+    autosave: Option<Autosave>,
 }
 
 impl EditorApp {
@@ -148,7 +215,10 @@ impl EditorApp {
                 path: None,
                 history: History::new(500),
                 revision: 1,
-                saved_revision: 1,
+                saved_revision: Some(1),
+                saved_scene: None,
+                disk: None,
+                modified_cache: Cell::new(None),
             },
             selection: Vec::new(),
             selected_vertex: None,
@@ -172,12 +242,74 @@ impl EditorApp {
             close_confirmed: false,
             last_title: String::new(),
             theme_set: false,
+            autosave: options.state_dir.map(|dir| Autosave::new(dir, options.autosave_every)),
         };
         match options.file {
             Some(path) => app.open(&path),
             None => app.open_demo(),
         }
+        if let Some(a) = &app.autosave {
+            app.dialogs.recovery_offers = recovery::orphaned_copies(a.dir());
+        }
         app
+    }
+
+    /// What a panic hook needs to write the unsaved work; `None` without a state folder.
+    pub fn panic_slot(&self) -> Option<PanicSlot> {
+        self.autosave.as_ref().map(Autosave::panic_slot)
+    }
+
+    /// This editor's recovery copy (present only while there is unsaved work).
+    pub fn recovery_file(&self) -> Option<PathBuf> {
+        self.autosave.as_ref().map(Autosave::copy_file)
+    }
+
+    /// Looks again for recovery copies of editors that stopped (File ▸ Recovered work…).
+    pub fn find_recovery_copies(&mut self) {
+        match &self.autosave {
+            Some(a) => {
+                self.dialogs.recovery_offers = recovery::orphaned_copies(a.dir());
+                if self.dialogs.recovery_offers.is_empty() {
+                    self.status = format!("No unsaved work of an earlier run was found in {}", a.dir().display());
+                }
+            }
+            None => self.status = "Recovery copies are off: no state folder (set XDG_STATE_HOME or HOME)".into(),
+        }
+    }
+
+    /// Opens a recovery copy as a modified document belonging to its original file, so that
+    /// Save writes there. This editor's own copy is written before the old one is removed,
+    /// so a crash in between still leaves one.
+    pub fn restore(&mut self, copy_file: &Path) {
+        self.dialogs.recovery_offers.retain(|c| c.file != copy_file);
+        let (info, scene) = match recovery::read_copy(copy_file) {
+            Ok(read) => read,
+            Err(e) => {
+                self.dialogs.error = Some(format!("The recovery copy could not be read, and was kept: {e}"));
+                return;
+            }
+        };
+        let original = info.original_path();
+        let on_disk = original.as_deref().and_then(|p| file::load(p).ok()).map(|l| l.scene);
+        self.set_scene(scene, original);
+        self.doc.saved_revision = None;
+        self.doc.saved_scene = on_disk;
+        self.doc.disk = info.original_stamp;
+        self.doc.modified_cache.set(None);
+        self.status = format!("Restored the unsaved work on {}", self.doc.display_name());
+        let doc = &self.doc;
+        let own = self.autosave.as_mut().map(|a| a.write_now(&doc_state(doc)));
+        match own {
+            Some(Ok(own)) if own != copy_file => {
+                if let Err(e) = std::fs::remove_file(copy_file) {
+                    eprintln!("warning: {}: restored recovery copy not removed: {e}", copy_file.display());
+                }
+            }
+            Some(Err(e)) => {
+                self.status = format!("Restored; the recovery copy {} is kept ({e})", copy_file.display());
+            }
+            Some(Ok(_)) | None => {}
+        }
     }
 
     /// Queues a command for the end of the frame.
@@ -195,7 +327,7 @@ impl EditorApp {
         self.doc.path = path;
         self.doc.history.clear();
         self.doc.revision += 1;
-        self.doc.saved_revision = self.doc.revision;
+        self.doc.mark_saved(None);
         self.selection.clear();
         self.selected_vertex = None;
         self.tool_state = ToolState::default();
@@ -216,6 +348,7 @@ impl EditorApp {
         match file::load(path) {
             Ok(loaded) => {
                 self.set_scene(loaded.scene, Some(path.to_path_buf()));
+                self.doc.disk = DiskStamp::of_file(path);
                 self.prefs.add_recent(path);
                 self.save_prefs();
                 self.status = format!("Opened {}", path.display());
@@ -229,19 +362,47 @@ impl EditorApp {
         }
     }
 
-    /// Saves to `path`; true on success.
-    pub fn save_to(&mut self, path: &std::path::Path) -> bool {
-        match file::save(&self.doc.scene, path) {
+    /// Saves to `path`; true on success. Saving over the document's own file after someone
+    /// else changed it asks first (and returns false meanwhile).
+    pub fn save_to(&mut self, path: &Path) -> bool {
+        self.save_then(path, None)
+    }
+
+    /// [`save_to`](Self::save_to), then `then` once the file is written (also after the user
+    /// chose to overwrite a file changed on disk).
+    fn save_then(&mut self, path: &Path, then: Option<Guarded>) -> bool {
+        if self.doc.is_own_file(path) {
+            if let Some(change) = self.doc.disk.as_ref().and_then(|d| d.change_on_disk(path)) {
+                self.dialogs.save_conflict = Some(SaveConflict { path: path.to_path_buf(), change, then });
+                return false;
+            }
+        }
+        self.write_to(path)
+    }
+
+    /// Writes the document to `path` without asking. On failure the document stays open and
+    /// modified, and the error window names the file and the cause.
+    fn write_to(&mut self, path: &Path) -> bool {
+        let text = match file::to_string(&self.doc.scene) {
+            Ok(text) => text,
+            Err(e) => {
+                self.dialogs.error = Some(files::save_failed_message(path, &e.to_string()));
+                return false;
+            }
+        };
+        match file::write_atomically(path, text.as_bytes(), true) {
             Ok(()) => {
                 self.doc.path = Some(path.to_path_buf());
-                self.doc.saved_revision = self.doc.revision;
+                self.doc.mark_saved(Some(DiskStamp::of_bytes(text.as_bytes())));
                 self.prefs.add_recent(path);
                 self.save_prefs();
                 self.status = format!("Saved {}", path.display());
                 true
             }
             Err(e) => {
-                self.dialogs.error = Some(format!("Could not save: {e}"));
+                let cause = files::io_cause(&e);
+                self.status = format!("Not saved: {cause}");
+                self.dialogs.error = Some(files::save_failed_message(path, &cause));
                 false
             }
         }
@@ -410,6 +571,7 @@ impl EditorApp {
             Guarded::New => self.set_scene(Scene::new("Untitled"), None),
             Guarded::Open(p) => self.open(&p),
             Guarded::OpenDemo => self.open_demo(),
+            Guarded::Restore(copy_file) => self.restore(&copy_file),
             Guarded::OpenDialog => match files::open_dialog(self.doc.path.as_deref()) {
                 Some(p) => self.open(&p),
                 None => self.ask_path(false),
@@ -417,6 +579,9 @@ impl EditorApp {
             Guarded::Quit => {
                 self.close_confirmed = true;
                 self.save_prefs();
+                if let Some(a) = &mut self.autosave {
+                    a.finish();
+                }
                 ctx.send_viewport_cmd(egui::ViewportCommand::Close);
             }
         }
@@ -591,10 +756,24 @@ impl EditorApp {
         if self.worker.update(&self.doc.scene, self.doc.revision) {
             ctx.request_repaint_after(std::time::Duration::from_millis(30));
         }
+        self.autosave_tick(&ctx);
         let title = self.title();
         if title != self.last_title {
             ctx.send_viewport_cmd(egui::ViewportCommand::Title(title.clone()));
             self.last_title = title;
+        }
+    }
+
+    /// Writes or removes the recovery copy as it falls due.
+    fn autosave_tick(&mut self, ctx: &egui::Context) {
+        let doc = &self.doc;
+        let Some(autosave) = self.autosave.as_mut() else { return };
+        let (next, error) = autosave.tick(&doc_state(doc));
+        if let Some(after) = next {
+            ctx.request_repaint_after(after);
+        }
+        if let Some(e) = error {
+            self.status = e;
         }
     }
 
@@ -604,7 +783,11 @@ impl EditorApp {
                 ctx.send_viewport_cmd(egui::ViewportCommand::CancelClose);
                 self.dialogs.confirm_discard = Some(Guarded::Quit);
             } else {
+                // A clean exit: nothing is left to recover.
                 self.save_prefs();
+                if let Some(a) = &mut self.autosave {
+                    a.finish();
+                }
             }
         }
     }
@@ -771,9 +954,9 @@ impl EditorApp {
                 Some(0) => {
                     self.dialogs.confirm_discard = None;
                     let saved = match self.doc.path.clone() {
-                        Some(p) => self.save_to(&p),
+                        Some(p) => self.save_then(&p, Some(g.clone())),
                         None => match files::save_dialog(None) {
-                            Some(p) => self.save_to(&p),
+                            Some(p) => self.save_then(&p, Some(g.clone())),
                             None => {
                                 self.ask_path(true);
                                 false
@@ -795,6 +978,8 @@ impl EditorApp {
                 None => {}
             }
         }
+        self.save_conflict_ui(ctx);
+        self.recovery_offer_ui(ctx);
         inspect::inspector_window_ui(self, ctx);
         if self.dialogs.about {
             about::about_ui(ctx, &mut self.dialogs.about);
@@ -826,6 +1011,112 @@ impl EditorApp {
                 self.dialogs.error = None;
             }
         }
+    }
+}
+
+impl EditorApp {
+    /// Asks what to do about a save over a file that changed on disk.
+    fn save_conflict_ui(&mut self, ctx: &egui::Context) {
+        let Some(conflict) = self.dialogs.save_conflict.clone() else { return };
+        let mut choice = None;
+        egui::Modal::new(egui::Id::unique("save_conflict")).show(ctx, |ui| {
+            ui.heading("File changed on disk");
+            ui.label(format!(
+                "{} was changed by another program since it was opened or last saved here ({}). \
+                 Saving now would replace those changes.",
+                conflict.path.display(),
+                conflict.change
+            ));
+            ui.horizontal(|ui| {
+                if ui.button("Overwrite").clicked() {
+                    choice = Some(0);
+                }
+                if ui.button("Save as…").clicked() {
+                    choice = Some(1);
+                }
+                if ui.button("Cancel").clicked() {
+                    choice = Some(2);
+                }
+            });
+        });
+        if choice.is_some() {
+            self.dialogs.save_conflict = None;
+        }
+        match choice {
+            Some(0) => {
+                let written = self.write_to(&conflict.path);
+                if let (true, Some(g)) = (written, conflict.then) {
+                    self.run_guarded(ctx, g);
+                }
+            }
+            Some(1) => self.push(Command::SaveAsDialog),
+            _ => {}
+        }
+    }
+
+    /// Offers the first recovery copy left by an editor that stopped without saving.
+    fn recovery_offer_ui(&mut self, ctx: &egui::Context) {
+        if self.dialogs.confirm_discard.is_some() || self.dialogs.save_conflict.is_some() {
+            return;
+        }
+        let Some(copy) = self.dialogs.recovery_offers.first().cloned() else { return };
+        let more = self.dialogs.recovery_offers.len() - 1;
+        let mut choice = None;
+        egui::Modal::new(egui::Id::unique("recovery_offer")).show(ctx, |ui| {
+            ui.set_max_width(520.0);
+            ui.heading("Recover unsaved work");
+            let what = copy
+                .info
+                .original_path()
+                .map_or_else(|| "an untitled scene".to_owned(), |p| format!("changes to {}", p.display()));
+            ui.label(format!(
+                "An earlier Raydraft stopped before saving {what}. Its last recovery copy was written {}.",
+                copy.age_text()
+            ));
+            ui.label(
+                "Restore opens it as a modified document, and Save then writes it to its file. \
+                 Discard deletes the copy. Later keeps it for the next start (or for Recovered work… in the File menu).",
+            );
+            if more > 0 {
+                ui.label(format!("{more} more recovery {} after this one.", if more == 1 { "copy" } else { "copies" }));
+            }
+            ui.horizontal(|ui| {
+                if ui.button("Restore").clicked() {
+                    choice = Some(0);
+                }
+                if ui.button("Discard").clicked() {
+                    choice = Some(1);
+                }
+                if ui.button("Later").clicked() {
+                    choice = Some(2);
+                }
+            });
+            ui.small(format!("The copy: {}", copy.file.display()));
+        });
+        match choice {
+            Some(0) => self.push(Command::Guarded(Guarded::Restore(copy.file))),
+            Some(1) => {
+                self.dialogs.recovery_offers.retain(|c| c.file != copy.file);
+                match std::fs::remove_file(&copy.file) {
+                    Ok(()) => self.status = format!("Discarded the recovery copy {}", copy.file.display()),
+                    Err(e) if e.kind() == std::io::ErrorKind::NotFound => {}
+                    Err(e) => self.dialogs.error = Some(format!("{}: not removed: {e}", copy.file.display())),
+                }
+            }
+            Some(_) => self.dialogs.recovery_offers.retain(|c| c.file != copy.file),
+            None => {}
+        }
+    }
+}
+
+/// The document as the autosave needs it.
+fn doc_state(doc: &Document) -> DocState<'_> {
+    DocState {
+        scene: &doc.scene,
+        path: doc.path.as_deref(),
+        stamp: doc.disk.clone(),
+        revision: doc.revision,
+        modified: doc.is_modified(),
     }
 }
 

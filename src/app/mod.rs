@@ -22,12 +22,13 @@ mod materials;
 mod pick;
 mod problems;
 mod properties;
+pub mod recovery;
 mod sweep_ui;
 mod tools;
 mod view_rays;
 mod worker;
 
-pub use app::{Command, EditorApp, Options};
+pub use app::{Command, EditorApp, Guarded, Options};
 pub use canvas::View;
 pub use files::Prefs;
 pub use tools::Tool;
@@ -39,13 +40,23 @@ pub use crate::scene::history::{Gesture, History};
 /// The demo scene shown when the editor starts without a file.
 pub const DEMO_SCENE: &str = include_str!("../../scenes/light_guide.ron");
 
-/// Opens the editor window and runs it until it is closed.
+/// Opens the editor window and runs it until it is closed. Unsaved work is written to a
+/// recovery copy in the state folder every [`recovery::interval_from_env`] and by a panic
+/// hook; the next start offers copies left behind.
 pub fn run(file: Option<std::path::PathBuf>) -> anyhow::Result<()> {
     let options = eframe::NativeOptions {
         viewport: egui::ViewportBuilder::default().with_inner_size([1280.0, 820.0]).with_title("Raydraft"),
         ..Default::default()
     };
-    let app = EditorApp::new(Options { file, prefs_path: files::default_prefs_path() });
+    let app = EditorApp::new(Options {
+        file,
+        prefs_path: files::default_prefs_path(),
+        state_dir: recovery::default_state_dir(),
+        autosave_every: recovery::interval_from_env(),
+    });
+    if let Some(slot) = app.panic_slot() {
+        recovery::install_panic_hook(slot);
+    }
     eframe::run_native("Raydraft", options, Box::new(|_cc| Ok(Box::new(app))))
         .map_err(|e| anyhow::anyhow!("the editor window could not be opened: {e}"))
 }
