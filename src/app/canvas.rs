@@ -606,8 +606,19 @@ pub fn canvas_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
 
     // Our own click test: egui folds quick clicks at different places into one double
     // click, which would lose vertices of a solid being drawn.
+    // A quick click can bring its press and its release in the same frame; egui has then
+    // already forgotten where the press was, so take it from the frame's events.
     let (pressed, released, press_pos, release_pos) = ui.input(|i| {
-        (i.pointer.primary_pressed(), i.pointer.primary_released(), i.pointer.press_origin(), i.pointer.interact_pos())
+        let press_event = i.events.iter().rev().find_map(|e| match e {
+            egui::Event::PointerButton { pos, button: egui::PointerButton::Primary, pressed: true, .. } => Some(*pos),
+            _ => None,
+        });
+        (
+            i.pointer.primary_pressed(),
+            i.pointer.primary_released(),
+            i.pointer.press_origin().or(press_event),
+            i.pointer.interact_pos(),
+        )
     });
     if pressed && press_pos.is_some_and(|p| rect.contains(p)) && response.hovered() {
         app.canvas.press_at = press_pos;
