@@ -25,6 +25,8 @@ const TIR: Color32 = Color32::from_rgb(215, 48, 31);
 const CONE: Color32 = Color32::from_rgb(27, 140, 80);
 const MEASURE: Color32 = Color32::from_rgb(110, 60, 170);
 const HIGHLIGHT: Color32 = Color32::from_rgb(230, 0, 126);
+/// Events of an inspected ray annotated on the canvas.
+const MAX_ANNOTATED: usize = 12;
 
 /// A ray the user clicked. After each new trace the ray under the same point is found
 /// again, so the explanation follows the light while the scene is edited.
@@ -289,6 +291,11 @@ fn ray_ui(painter: &egui::Painter, view: &View, scene: &crate::scene::Scene, x: 
         let p = view.screen_from_scene(s.point);
         painter.circle_filled(p, 3.0, INK);
         let (Some(surface), Some(inc)) = (&s.surface, s.incidence_deg) else { continue };
+        // A long trapped path would bury the drawing in labels: the first ones tell the
+        // story, the table has them all.
+        if k >= MAX_ANNOTATED {
+            continue;
+        }
         let Some(edge) = analysis::surface_edge(scene, surface) else { continue };
         let Some(d) = (s.point - prev.point).try_normalize(1e-300) else { continue };
         let n = edge.normal_at(edge.param_of(s.point));
@@ -434,8 +441,9 @@ pub fn inspector_window_ui(app: &mut EditorApp, ctx: &egui::Context) {
     let explanation = pick.explanation.clone();
     egui::Window::new("Ray inspector")
         .open(&mut open)
-        .default_pos(app.view.rect.left_bottom() + egui::vec2(10.0, -260.0))
-        .default_size([720.0, 220.0])
+        .default_pos(app.view.rect.left_bottom() + egui::vec2(10.0, -290.0))
+        .default_size([720.0, 240.0])
+        .max_height(app.view.rect.height().max(200.0) * 0.6)
         .resizable(true)
         .show(ctx, |ui| {
             let Some(x) = explanation else {
@@ -465,7 +473,7 @@ fn ray_table_ui(ui: &mut egui::Ui, x: &RayExplanation) {
             .color(TIR),
         );
     }
-    egui::ScrollArea::both().max_height(320.0).show(ui, |ui| {
+    egui::ScrollArea::both().max_height(200.0).show(ui, |ui| {
         egui::Grid::new("ray_table").striped(true).num_columns(12).show(ui, |ui| {
             for h in [
                 "#",
@@ -514,8 +522,15 @@ fn ray_table_ui(ui: &mut egui::Ui, x: &RayExplanation) {
             }
         });
     });
-    for (k, s) in x.steps.iter().enumerate().filter(|(_, s)| s.kind == EventKind::Tir) {
-        ui.label(egui::RichText::new(format!("Event {k}: {}", s.statement())).color(TIR));
+    // The first total internal reflection in words; the table holds the rest.
+    let tirs: Vec<usize> = x.steps.iter().enumerate().filter(|(_, s)| s.kind == EventKind::Tir).map(|(k, _)| k).collect();
+    if let Some(&first) = tirs.first() {
+        let more = match tirs.len() {
+            1 => String::new(),
+            2 => " (and once more)".to_owned(),
+            n => format!(" (and {} times more)", n - 1),
+        };
+        ui.label(egui::RichText::new(format!("Event {first}: {}{more}", x.steps[first].statement())).color(TIR));
     }
 }
 
