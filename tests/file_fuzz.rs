@@ -138,7 +138,7 @@ fn mutated_files_never_panic_and_every_trace_closes() {
         let (name, text) = &seeds[rng.below(seeds.len())];
         let (_, other) = &seeds[rng.below(seeds.len())];
         let mut t = text.clone();
-        for _ in 0..1 + rng.below(2) {
+        for _ in 0..=rng.below(2) {
             t = mutate(&mut rng, &t, other);
         }
         match file::from_str(&t, name) {

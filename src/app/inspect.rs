@@ -523,7 +523,8 @@ fn ray_table_ui(ui: &mut egui::Ui, x: &RayExplanation) {
         });
     });
     // The first total internal reflection in words; the table holds the rest.
-    let tirs: Vec<usize> = x.steps.iter().enumerate().filter(|(_, s)| s.kind == EventKind::Tir).map(|(k, _)| k).collect();
+    let tirs: Vec<usize> =
+        x.steps.iter().enumerate().filter(|(_, s)| s.kind == EventKind::Tir).map(|(k, _)| k).collect();
     if let Some(&first) = tirs.first() {
         let more = match tirs.len() {
             1 => String::new(),

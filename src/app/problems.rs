@@ -3,17 +3,20 @@
 use super::app::{Command, EditorApp};
 use crate::scene::validate::{Problem, Severity};
 
-/// Problems of the scene, worked out once per revision.
+/// Problems of the scene, worked out once per revision. The geometric checks of the last
+/// revision are kept, so dragging one vertex of a large outline re-checks only the edges
+/// that moved.
 #[derive(Default)]
 pub struct ProblemsCache {
     revision: Option<u64>,
+    checks: crate::scene::GeometryChecks,
     pub problems: Vec<Problem>,
 }
 
 impl ProblemsCache {
     pub fn update(&mut self, scene: &crate::scene::Scene, revision: u64) -> &[Problem] {
         if self.revision != Some(revision) {
-            self.problems = crate::scene::validate(scene);
+            self.problems = crate::scene::validate_with(scene, &mut self.checks);
             self.revision = Some(revision);
         }
         &self.problems

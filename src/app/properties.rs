@@ -23,6 +23,9 @@ fn count(ui: &mut egui::Ui, label: &str, v: &mut u32, max: u32) -> egui::Respons
     r
 }
 
+/// Outlines with more vertices than this show one vertex row, the one picked on the canvas.
+const MAX_VERTEX_ROWS: usize = 40;
+
 /// Tracks whether any widget of the panel is being dragged, for one gesture per drag.
 struct Changes {
     dragging: bool,
@@ -110,7 +113,7 @@ fn emission_ui(ui: &mut egui::Ui, e: &mut Emission, ch: &mut Changes) {
 }
 
 #[allow(clippy::too_many_lines)] // one block per kind and shape
-fn shape_ui(ui: &mut egui::Ui, shape: &mut Shape, ch: &mut Changes) {
+fn shape_ui(ui: &mut egui::Ui, shape: &mut Shape, focus: Option<usize>, ch: &mut Changes) {
     let n =
         |ui: &mut egui::Ui, label: &str, v: &mut f64, unit: &str, speed: f64| num(ui, label, v, unit, speed).dragged();
     match shape {
@@ -118,7 +121,18 @@ fn shape_ui(ui: &mut egui::Ui, shape: &mut Shape, ch: &mut Changes) {
             ui.label("vertices");
             ui.label(format!("{}", points.len()));
             ui.end_row();
-            for (i, p) in points.iter_mut().enumerate() {
+            // Thousands of rows of numbers would cost more than a frame and help nobody:
+            // a long outline shows the vertex picked on the canvas (or the first).
+            let rows = if points.len() <= MAX_VERTEX_ROWS {
+                0..points.len()
+            } else {
+                let k = focus.unwrap_or(0).min(points.len() - 1);
+                ui.label("");
+                ui.label(egui::RichText::new("Click a vertex on the canvas to edit it here.").small().weak());
+                ui.end_row();
+                k..k + 1
+            };
+            for (i, p) in points.iter_mut().enumerate().skip(rows.start).take(rows.len()) {
                 let l = ui.label(format!("vertex {}", i + 1));
                 ui.horizontal(|ui| {
                     ch.see(
@@ -249,7 +263,8 @@ pub fn properties_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
                 ui.label("shape");
                 ui.label(s.shape.word());
                 ui.end_row();
-                shape_ui(ui, &mut s.shape, &mut ch);
+                let focus = app.selected_vertex.filter(|(v_id, _)| *v_id == id).map(|(_, v)| v);
+                shape_ui(ui, &mut s.shape, focus, &mut ch);
             }
             ObjectKind::Mirror(m) => {
                 let r = num(ui, "reflectance", &mut m.reflectance, "", 0.01);

@@ -26,6 +26,10 @@ const LEVELS: f64 = 16.0;
 pub struct RayCache {
     key: Option<(u64, [i64; 5])>,
     mesh: Arc<Mesh>,
+    /// TIR and trapped marks, built into one mesh with the rays (thousands of separate
+    /// circles would be tessellated again every frame).
+    marks_mesh: Arc<Mesh>,
+    /// The few marks drawn as outlines (below threshold).
     marks: Vec<Shape>,
     /// Rays drawn and stored.
     pub n_drawn: usize,
@@ -59,6 +63,29 @@ fn launch_powers(trace: &Trace) -> Vec<f32> {
     out
 }
 
+/// A filled disc as a small polygon fan.
+fn add_disc(mesh: &mut Mesh, c: Pos2, r: f32, colour: Color32) {
+    const N: u32 = 8;
+    let i = mesh.vertices.len() as u32;
+    mesh.colored_vertex(c, colour);
+    for k in 0..N {
+        let a = std::f32::consts::TAU * k as f32 / N as f32;
+        mesh.colored_vertex(c + EVec2::new(a.cos(), a.sin()) * r, colour);
+    }
+    for k in 0..N {
+        mesh.add_triangle(i, i + 1 + k, i + 1 + (k + 1) % N);
+    }
+}
+
+fn add_rect(mesh: &mut Mesh, c: Pos2, half: f32, colour: Color32) {
+    let i = mesh.vertices.len() as u32;
+    for (dx, dy) in [(-half, -half), (half, -half), (half, half), (-half, half)] {
+        mesh.colored_vertex(c + EVec2::new(dx, dy), colour);
+    }
+    mesh.add_triangle(i, i + 1, i + 2);
+    mesh.add_triangle(i, i + 2, i + 3);
+}
+
 fn add_segment(mesh: &mut Mesh, a: Pos2, b: Pos2, width: f32, colour: Color32) {
     let d = b - a;
     let len = d.length();
@@ -84,6 +111,7 @@ impl RayCache {
             self.key = Some(key);
         }
         painter.add(Shape::mesh(Arc::clone(&self.mesh)));
+        painter.add(Shape::mesh(Arc::clone(&self.marks_mesh)));
         painter.extend(self.marks.iter().cloned());
     }
 
@@ -98,6 +126,7 @@ impl RayCache {
         let n_roots = trace.rays.iter().step_by(stride).filter(|r| r.parent == NONE).count();
         let base = palette::ray_base_opacity(n_roots);
         let mut mesh = Mesh::default();
+        let mut marks_mesh = Mesh::default();
         let mut marks = Vec::new();
         // Dense TIR marks (a light guide has thousands) would hide the rays: fade them as
         // they grow in number, and draw every k-th one past the cap.
@@ -144,17 +173,9 @@ impl RayCache {
                 if is_mark && mark_k % mark_stride == 0 && clip.contains(here) {
                     match e.kind {
                         EventKind::Tir => {
-                            marks.push(Shape::circle_filled(
-                                here,
-                                tir_radius,
-                                rgb(palette::TIR).gamma_multiply(tir_alpha),
-                            ));
+                            add_disc(&mut marks_mesh, here, tir_radius, rgb(palette::TIR).gamma_multiply(tir_alpha));
                         }
-                        EventKind::Limit => marks.push(Shape::rect_filled(
-                            Rect::from_center_size(here, EVec2::splat(5.0)),
-                            0.0,
-                            rgb(palette::TRAPPED),
-                        )),
+                        EventKind::Limit => add_rect(&mut marks_mesh, here, 2.5, rgb(palette::TRAPPED)),
                         EventKind::Dropped => {
                             marks.push(Shape::circle_stroke(
                                 here,
@@ -169,6 +190,7 @@ impl RayCache {
             }
         }
         self.mesh = Arc::new(mesh);
+        self.marks_mesh = Arc::new(marks_mesh);
         self.marks = marks;
         self.n_drawn = n_drawn;
         self.n_stored = trace.rays.len();

@@ -369,7 +369,7 @@ pub fn validate_with(scene: &Scene, checks: &mut GeometryChecks) -> Vec<Problem>
     // Where each object lies, for the range and size checks, and each usable solid's outline
     // key, for the duplicate check.
     let mut extents: Vec<Extent> = Vec::new();
-    let mut outline_keys: Vec<(u64, &str, &str, OutlineKey)> = Vec::new();
+    let mut outline_keys: Vec<(u64, &str, &str, Arc<Outline>)> = Vec::new();
     let mut total_power_w = 0.0;
     for o in &scene.objects {
         c.current = Some((o.id, o.name.clone()));
@@ -420,7 +420,7 @@ pub fn validate_with(scene: &Scene, checks: &mut GeometryChecks) -> Vec<Problem>
                     },
                     Ok((outline, bb)) => {
                         extent(*bb, true);
-                        outline_keys.push((o.id, o.name.as_str(), solid.material.as_str(), outline_key(outline)));
+                        outline_keys.push((o.id, o.name.as_str(), solid.material.as_str(), Arc::clone(outline)));
                         usable.push((o.id, o.name.as_str(), Arc::clone(outline), *bb));
                     }
                 }
@@ -501,7 +501,7 @@ pub fn validate_with(scene: &Scene, checks: &mut GeometryChecks) -> Vec<Problem>
         );
     }
     ranges_and_sizes(&mut c, &extents);
-    duplicates(&mut c, &mut outline_keys);
+    duplicates(&mut c, &outline_keys);
     overlaps(&mut c, &usable, checks);
     if !scene.objects.iter().any(|o| o.kind.is_source()) {
         c.warning("the scene has no light source");
@@ -579,9 +579,20 @@ fn outline_key(o: &Outline) -> OutlineKey {
 
 /// Warns about solids with the same outline as an earlier one (a paste too many): where two
 /// solids coincide, only one of them takes effect. Hashing keeps this linear.
-fn duplicates(c: &mut Collector, keys: &mut [(u64, &str, &str, OutlineKey)]) {
+fn duplicates(c: &mut Collector, solids: &[(u64, &str, &str, Arc<Outline>)]) {
+    // Equal outlines have as many vertices: only solids that share their vertex count with
+    // another need a key (a scene of one large outline then costs nothing here).
+    let mut by_count: HashMap<usize, usize> = HashMap::new();
+    for s in solids {
+        *by_count.entry(s.3.vertices.len()).or_insert(0) += 1;
+    }
+    let keys: Vec<(u64, &str, &str, OutlineKey)> = solids
+        .iter()
+        .filter(|s| by_count.get(&s.3.vertices.len()).is_some_and(|&n| n > 1))
+        .map(|(id, name, material, o)| (*id, *name, *material, outline_key(o)))
+        .collect();
     let mut seen: HashMap<&OutlineKey, (u64, &str, &str)> = HashMap::new();
-    for (id, name, material, key) in keys.iter() {
+    for (id, name, material, key) in &keys {
         match seen.get(key) {
             None => {
                 seen.insert(key, (*id, *name, *material));
