@@ -276,6 +276,25 @@ fn nearly_full_arc_length_is_radius_times_angle() {
     assert!((hit.normal - gap_dir).norm() < 1e-9);
 }
 
+#[test]
+fn degenerate_arcs_have_no_circle() {
+    // A bulge with coincident end points, an end point at infinity, or an infinite bulge: no
+    // circle is defined, so the edge is not treated as an arc (and never hit as one).
+    let cases = [
+        Edge { a: v(1.0, 2.0), b: v(1.0, 2.0), bulge: 0.5 },
+        Edge { a: v(0.0, 0.0), b: v(f64::INFINITY, 0.0), bulge: 0.5 },
+        Edge { a: v(0.0, 0.0), b: v(3.0, 0.0), bulge: f64::INFINITY },
+    ];
+    for e in cases {
+        assert_eq!(e.arc(), None, "{e:?}");
+        assert_eq!(e.arc_ray(), None, "{e:?}");
+    }
+    // A zero-length edge is never hit, whatever its bulge.
+    let point = cases[0];
+    assert_eq!(point.length(), 0.0);
+    assert_eq!(point.cast(v(1.0, 0.0), v(0.0, 1.0), 0.0, f64::INFINITY), None);
+}
+
 // --- Random cases -------------------------------------------------------------------------
 
 /// Random arcs against random rays, rays aimed at the circle, rays starting on the arc, and
