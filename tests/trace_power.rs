@@ -377,3 +377,64 @@ fn monte_carlo_rays_keep_their_power_and_carry_the_polarisation_of_their_branch(
     }
     assert!(n_reflect > 0 && n_refract > 300, "{n_reflect} reflected, {n_refract} refracted");
 }
+
+#[test]
+fn tree_mode_drops_a_ray_only_once_its_power_is_below_the_threshold() {
+    // A beam launched inside a block of n = 1.5 and α = 0.1/mm reaches the face 10 mm away
+    // with e^(−1) = 0.367879 of its power (Beer–Lambert, common practice). With a threshold
+    // of 0.5 it is dropped there; with 0.3 it goes on, and at normal incidence the face
+    // reflects R = ((n − 1)/(n + 1))² = 0.04 (Hecht 2017 eq. 4.67, from memory), a branch
+    // below the threshold, and passes the rest out of the block.
+    let survive = (-1.0f64).exp();
+    let block = || {
+        let mut s = scene();
+        let mut m = raydraft::optics::Material::constant("absorbing", 1.5);
+        m.absorption_per_mm = 0.1;
+        s.materials.push(m);
+        s.add(
+            "block",
+            raydraft::scene::ObjectKind::Solid(raydraft::scene::Solid {
+                shape: rect(0.0, 0.0, 20.0, 100.0),
+                material: "absorbing".into(),
+            }),
+        );
+        beam(&mut s, (0.0, 0.0), 4.0, 0.0, 20, Polarization::Unpolarized);
+        s
+    };
+    let s = block();
+    let mut c = config(&s, TraceMode::Tree);
+    c.settings.threshold = 0.5;
+    let t = run(&s, &c);
+    let b = &t.budget;
+    assert!((b.below_threshold / b.launched - survive).abs() < 1e-9, "dropped {}", b.below_threshold);
+    assert!((b.absorbed_in_media[1] / b.launched - (1.0 - survive)).abs() < 1e-9);
+    assert_eq!(b.escaped, 0.0);
+    for r in &t.rays {
+        let kinds: Vec<EventKind> = t.events_of(r).iter().map(|e| e.kind).collect();
+        assert_eq!(kinds, [EventKind::Launch, EventKind::Dropped]);
+    }
+
+    c.settings.threshold = 0.3;
+    let t = run(&s, &c);
+    let b = &t.budget;
+    assert!((b.escaped / b.launched - 0.96 * survive).abs() < 1e-9, "escaped {}", b.escaped);
+    assert!((b.below_threshold / b.launched - 0.04 * survive).abs() < 1e-9);
+
+    // A lossless mirror and a detector with the threshold at the full power: the ray is never
+    // below it, so all of it is detected.
+    let mut s = scene();
+    beam(&mut s, (-10.0, 0.0), 4.0, 0.0, 20, Polarization::Unpolarized);
+    s.add(
+        "mirror",
+        raydraft::scene::ObjectKind::Mirror(raydraft::scene::Mirror {
+            path: raydraft::scene::Path::segment((0.0, -5.0), (0.0, 5.0)),
+            reflectance: 1.0,
+            one_sided: false,
+        }),
+    );
+    detector(&mut s, "back", (-20.0, -5.0), (-20.0, 5.0));
+    let mut c = config(&s, TraceMode::Tree);
+    c.settings.threshold = 1.0;
+    let t = run(&s, &c);
+    assert!((t.budget.detected[0] - t.budget.launched).abs() < 1e-12, "{:?}", t.budget);
+}
