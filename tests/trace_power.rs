@@ -438,3 +438,24 @@ fn tree_mode_drops_a_ray_only_once_its_power_is_below_the_threshold() {
     let t = run(&s, &c);
     assert!((t.budget.detected[0] - t.budget.launched).abs() < 1e-12, "{:?}", t.budget);
 }
+
+#[test]
+fn a_source_of_zero_power_traces_without_nan_in_every_mode() {
+    // Power 0 is a valid source (only ratios matter); its rays meet a glass block and every
+    // stored power stays a number (0), with nothing launched or lost. Monte Carlo rescales a
+    // ray's power by its chosen branch's share, 0/0 here, which must give 0.
+    let mut s = scene();
+    solid(&mut s, "block", rect(0.0, 0.0, 10.0, 10.0), 1.5);
+    beam(&mut s, (-10.0, 0.0), 4.0, 20.0, 16, Polarization::Unpolarized);
+    if let raydraft::scene::ObjectKind::BeamSource(b) = &mut s.objects[1].kind {
+        b.emission.power_w = 0.0;
+    }
+    for mode in [TraceMode::Principal, TraceMode::Tree, TraceMode::MonteCarlo] {
+        let t = run(&s, &config(&s, mode));
+        assert_eq!(t.budget.launched, 0.0);
+        // Tree mode drops branches without power at the first split; the others go on.
+        let reached = t.events.iter().any(|e| e.kind == EventKind::Refract);
+        assert_eq!(reached, mode != TraceMode::Tree, "{mode:?}");
+        assert!(t.events.iter().all(|e| e.after_s == 0.0 && e.after_p == 0.0), "{mode:?}");
+    }
+}
