@@ -420,6 +420,17 @@ fn tree_mode_drops_a_ray_only_once_its_power_is_below_the_threshold() {
     assert!((b.escaped / b.launched - 0.96 * survive).abs() < 1e-9, "escaped {}", b.escaped);
     assert!((b.below_threshold / b.launched - 0.04 * survive).abs() < 1e-9);
 
+    // A detector inside the block 9 mm from the beam: e^(−0.9) = 0.40657 arrives, below the
+    // threshold of 0.5, so the ray is dropped before the detector counts it.
+    let mut s = block();
+    detector(&mut s, "inside", (9.0, -10.0), (9.0, 10.0));
+    let mut c = config(&s, TraceMode::Tree);
+    c.settings.threshold = 0.5;
+    let t = run(&s, &c);
+    let b = &t.budget;
+    assert_eq!(b.detected[0], 0.0, "nothing below the threshold is detected");
+    assert!((b.below_threshold / b.launched - (-0.9f64).exp()).abs() < 1e-9, "{b:?}");
+
     // A lossless mirror and a detector with the threshold at the full power: the ray is never
     // below it, so all of it is detected.
     let mut s = scene();
