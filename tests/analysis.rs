@@ -56,8 +56,8 @@ fn explanation_of_a_refraction_matches_snell_and_fresnel() {
     // ed., 2017, §4.4, section number from memory).
     assert!((step.refraction_deg.expect("refracts") - 19.4712206).abs() < 1e-4);
     // Fresnel at 30°, air→1.5: Rs 0.05780, Rp 0.02525, computed from the Fresnel equations
-    // in their sine and tangent form (Smith, *Modern Optical Engineering*, 4th ed., eq. 11.1;
-    // also Hecht 2017 §4.6, from memory).
+    // in their sine and tangent form (Smith, *Modern Optical Engineering*, 4th ed. (2008),
+    // eq. 11.1, from memory; also Hecht 2017 §4.6, from memory).
     let f = step.fresnel.expect("an interface");
     assert!((f.rs - 0.05780).abs() < 1e-5, "Rs {}", f.rs);
     assert!((f.rp - 0.02525).abs() < 1e-5, "Rp {}", f.rp);

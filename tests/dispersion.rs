@@ -88,8 +88,9 @@ fn fused_silica_malitson_1965() {
 
 #[test]
 fn sapphire_ordinary_malitson_dodge() {
-    // Malitson & Dodge 1972, JOSA 62:1405, formula in Dodge 1986, CRC Handbook of Laser Sci. &
-    // Tech. IV; nF/nd/nC computed from the database coefficients, tolerance 5e-5.
+    // Malitson & Dodge 1972, JOSA 62:1405, formula in Dodge 1986, Handbook of Laser Science and
+    // Technology IV (ordinary ray, 20 °C); nF/nd/nC computed from the database coefficients,
+    // tolerance 5e-5.
     check_fdc("sapphire-o", [1.77551, 1.76817, 1.76488], 5e-5);
     let m = mat("sapphire-o");
     // Malitson & Dodge 1972 / Dodge 1986, computed from the database coefficients.

@@ -2,10 +2,11 @@
 //! from the published formulas.
 //!
 //! The Fresnel equations in their sine and tangent form are Smith, *Modern Optical
-//! Engineering*, 4th ed., eq. 11.1; the same formulas are in Hecht, *Optics*, 5th ed. (2017),
-//! ch. 4, and Born & Wolf, *Principles of Optics*, 7th ed. (1999), §1.5 (chapter, section and
-//! equation numbers of these two from memory). Each "computed" value was worked out from
-//! those formulas independently of this code and rounded to the digits shown.
+//! Engineering*, 4th ed. (2008), eq. 11.1 (from memory); the same formulas are in Hecht,
+//! *Optics*, 5th ed. (2017), ch. 4, and Born & Wolf, *Principles of Optics*, 7th ed. (1999),
+//! §1.5 (chapter, section and equation numbers of these two from memory). Each "computed"
+//! value was worked out from those formulas independently of this code and rounded to the
+//! digits shown.
 
 #![allow(clippy::unreadable_literal)]
 
@@ -35,7 +36,7 @@ fn normal_incidence_reflectance() {
 
 #[test]
 fn external_reflection_air_to_glass() {
-    // Computed for air → 1.5 from the Fresnel equations (Smith, eq. 11.1; Hecht 2017
+    // Computed for air → 1.5 from the Fresnel equations (Smith 2008, eq. 11.1; Hecht 2017
     // eqs. 4.42–4.45, from memory).
     let f = fresnel(1.0, 1.5, cos_deg(45.0));
     close(f.rs, 0.09201, 1e-5, "Rs 45°");
@@ -71,7 +72,7 @@ fn internal_reflection_glass_to_air() {
 #[test]
 fn agrees_with_the_sine_and_tangent_forms() {
     // Rs = sin²(θi−θt)/sin²(θi+θt), Rp = tan²(θi−θt)/tan²(θi+θt): Smith, *Modern Optical
-    // Engineering*, 4th ed. (2008), eq. 11.1. An independent form of the same physics.
+    // Engineering*, 4th ed. (2008), eq. 11.1 (from memory). An independent form of the same physics.
     for n in [1.33, 1.5, 1.9, 2.4] {
         for k in 1..90 {
             let ti = f64::from(k).to_radians();
@@ -93,7 +94,7 @@ fn brewster_angles() {
     close(brewster_angle(1.5, 1.0).to_degrees(), 33.6901, 1e-4, "Brewster glass→air");
     // The two are complementary: θB + θB' = 90° (a consequence of tan θB = n₂/n₁).
     close((brewster_angle(1.0, 1.5) + brewster_angle(1.5, 1.0)).to_degrees(), 90.0, 1e-12, "complementary");
-    // At Brewster: Rs 0.14793, Rp 0 (computed from Smith eq. 11.1).
+    // At Brewster: Rs 0.14793, Rp 0 (computed from Smith 2008, eq. 11.1, from memory).
     let f = fresnel(1.0, 1.5, brewster_angle(1.0, 1.5).cos());
     close(f.rs, 0.14793, 1e-5, "Rs at Brewster");
     close(f.rp, 0.0, 1e-9, "Rp at Brewster");

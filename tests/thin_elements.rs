@@ -121,8 +121,9 @@ fn a_lossless_splitter_absorbs_nothing() {
 
 #[test]
 fn principal_path_splitter_keeps_the_larger_share() {
-    // One path per ray: the larger of R and T goes on, the rest is absorbed by the element.
-    for (r, tr, ahead, up) in [(0.3, 0.5, 0.5, 0.0), (0.6, 0.3, 0.0, 0.6)] {
+    // One path per ray: the larger of R and T goes on, the rest is absorbed by the element;
+    // on a tie the ray passes straight on (scene::TraceMode::Principal).
+    for (r, tr, ahead, up) in [(0.3, 0.5, 0.5, 0.0), (0.6, 0.3, 0.0, 0.6), (0.4, 0.4, 0.4, 0.0)] {
         let (s, splitter) = splitter_scene(r, tr, 16);
         let t = run(&s, &config(&s, TraceMode::Principal));
         let l = t.budget.launched;

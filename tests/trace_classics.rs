@@ -123,7 +123,8 @@ fn parallel_plate_transmits_one_minus_r_over_one_plus_r() {
     // Incoherent multiple reflections in a lossless plate: T = (1 − R)/(1 + R) for each
     // polarisation (Born & Wolf, *Principles of Optics*, 7th ed., 1999, §7.6.1 for the sum
     // of the geometric series, section number from memory). R from the sine and tangent forms
-    // (Smith 2008, eq. 11.1), computed here independently of the engine.
+    // (Smith, *Modern Optical Engineering*, 4th ed., 2008, eq. 11.1, from memory), computed
+    // here independently of the engine.
     let n: f64 = 1.5;
     let ti = 45f64.to_radians();
     let tt = (ti.sin() / n).asin();
@@ -305,7 +306,7 @@ fn zero_length_edges_and_repeated_vertices_are_harmless() {
 fn p_light_at_brewsters_angle_is_not_reflected() {
     // At tan θB = n₂/n₁ the p reflectance vanishes (Hecht 2017 §8.6.1, from memory): 56.3099°
     // for air → 1.5, where Rs = 0.14793 (computed from Smith, *Modern Optical Engineering*,
-    // 4th ed., eq. 11.1). Traced in tree mode with no threshold, a p-polarised beam sends no
+    // 4th ed. (2008), eq. 11.1, from memory). Traced in tree mode with no threshold, a p-polarised beam sends no
     // power to a detector placed to catch the reflection.
     let n: f64 = 1.5;
     let brewster = brewster_angle(1.0, n).to_degrees();

@@ -4,6 +4,7 @@
 mod common;
 use common::{beam, config, constant, run, scene};
 use raydraft::scene::{ObjectKind, Polarization, Shape, Solid, TraceMode};
+use raydraft::trace::EventKind;
 
 /// A 10 mm square written clockwise in the file: edge 0 left, 1 top, 2 right, 3 bottom.
 fn clockwise_square() -> Shape {
@@ -71,10 +72,76 @@ fn the_trace_takes_its_margin_from_the_config_not_the_scene() {
         let mut c = config(&s, TraceMode::Principal);
         c.settings.margin = margin;
         let t = run(&s, &c);
-        let e = t.events.iter().find(|e| e.kind == raydraft::trace::EventKind::Escape).expect("an escape");
+        let e = t.events.iter().find(|e| e.kind == EventKind::Escape).expect("an escape");
         e.point.x
     };
     // The content spans x from −10 (the beam) to 5 (the block's right face).
     assert!((escape_x(5.0) - 10.0).abs() < 1e-9);
     assert!((escape_x(50.0) - 55.0).abs() < 1e-9);
+}
+
+/// Two facing mirrors 10 mm apart with a beam between them, square to both: every ray
+/// bounces until the event limit (`max_depth`) ends it.
+fn mirror_cavity(rays: u32, max_depth: u32) -> raydraft::scene::Scene {
+    use raydraft::scene::{Mirror, Path};
+    let mut s = scene();
+    for (name, x) in [("left", -5.0), ("right", 5.0)] {
+        s.add(
+            name,
+            ObjectKind::Mirror(Mirror { path: Path::segment((x, -5.0), (x, 5.0)), reflectance: 1.0, one_sided: false }),
+        );
+    }
+    beam(&mut s, (0.0, 0.0), 4.0, 0.0, rays, Polarization::Unpolarized);
+    s.settings.max_depth = max_depth;
+    s
+}
+
+#[test]
+fn every_stored_event_names_its_ray_and_every_ray_its_events() {
+    // 20 rays, traced in several chunks: each ray is its launch, max_depth = 5 reflections
+    // at normal incidence (0°) and the limit event, 7 events, all naming the ray they belong
+    // to.
+    let s = mirror_cavity(20, 5);
+    for mode in [TraceMode::Principal, TraceMode::Tree, TraceMode::MonteCarlo] {
+        let t = run(&s, &config(&s, mode));
+        assert_eq!(t.rays.len(), 20, "{mode:?}");
+        let mut next_event = 0;
+        for (k, r) in t.rays.iter().enumerate() {
+            assert_eq!(r.id as usize, k, "{mode:?}");
+            assert_eq!(r.first_event, next_event, "{mode:?}: rays are stored one after another");
+            assert_eq!(r.n_events, 7, "{mode:?} ray {k}");
+            next_event += 7;
+            let ev = t.events_of(r);
+            assert!(ev.iter().all(|e| e.ray == r.id), "{mode:?} ray {k}: {ev:?}");
+            let kinds: Vec<EventKind> = ev.iter().map(|e| e.kind).collect();
+            let mut want = vec![EventKind::Launch];
+            want.extend([EventKind::Reflect; 5]);
+            want.push(EventKind::Limit);
+            assert_eq!(kinds, want, "{mode:?} ray {k}");
+            for e in &ev[1..6] {
+                assert!(f64::from(e.incidence_deg).abs() < 1e-3, "{e:?}");
+            }
+        }
+        assert_eq!(next_event, t.events.len());
+        assert_eq!(t.n_events, t.events.len() as u64);
+    }
+}
+
+#[test]
+fn power_still_bouncing_at_the_event_limit_is_counted_as_trapped() {
+    // Lossless mirrors keep all the power in the cavity: all of it is trapped, none escapes.
+    let s = mirror_cavity(20, 5);
+    for mode in [TraceMode::Principal, TraceMode::Tree, TraceMode::MonteCarlo] {
+        let t = run(&s, &config(&s, mode));
+        let b = &t.budget;
+        assert!((b.launched - 1.0).abs() < 1e-12, "{mode:?}: the beam's power is 1 W");
+        assert!((b.trapped - 1.0).abs() < 1e-12, "{mode:?}: trapped {}", b.trapped);
+        assert_eq!((b.escaped, b.absorbed, b.below_threshold), (0.0, 0.0, 0.0), "{mode:?}");
+        // The limit event keeps the power that arrived and passes none on.
+        for r in &t.rays {
+            let last = t.events_of(r).last().expect("events");
+            assert!((f64::from(last.before_s + last.before_p) - 0.05).abs() < 1e-7, "{last:?}");
+            assert_eq!((last.after_s, last.after_p), (0.0, 0.0));
+        }
+    }
 }

@@ -9,6 +9,8 @@ mod aabb;
 mod boxtree;
 mod bvh;
 mod edge;
+#[cfg(test)]
+mod edge_tests;
 mod outline;
 mod point_edge;
 mod ray_arc;

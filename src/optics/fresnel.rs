@@ -35,7 +35,8 @@ impl Fresnel {
 ///
 /// Formulas: Hecht, *Optics*, 5th ed. (2017), §4.6.2, eqs. 4.42–4.45 (amplitude
 /// coefficients) and 4.56–4.64 (power coefficients), section and equation numbers from
-/// memory; the sine and tangent form is Smith, *Modern Optical Engineering*, 4th ed., eq. 11.1.
+/// memory; the sine and tangent form is Smith, *Modern Optical Engineering*, 4th ed. (2008),
+/// eq. 11.1 (equation number from memory).
 /// Under total internal reflection R = 1 and T = 0 for both polarisations; exactly at the
 /// critical angle (sin θt = 1) counts as total internal reflection, as in [`refract`].
 pub fn fresnel(n1: f64, n2: f64, cos_i: f64) -> Fresnel {

@@ -119,7 +119,9 @@ impl Default for TraceSettings {
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize, Default)]
 pub enum TraceMode {
     /// One path per launched ray: refract where possible, else reflect by TIR. Power is not
-    /// split, so the budget describes paths, not watts.
+    /// split, so the budget describes paths, not watts. At a beam splitter the ray keeps the
+    /// larger of the reflected and transmitted shares (the transmitted one on a tie) and the
+    /// element absorbs the rest.
     Principal,
     /// Split at every interface into reflected and transmitted children.
     #[default]
