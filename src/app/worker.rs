@@ -24,7 +24,8 @@ const STALE_AFTER: Duration = Duration::from_millis(200);
 struct Running {
     revision: u64,
     control: Arc<Control>,
-    result: Receiver<Trace>,
+    /// The trace and how long it took on its thread (compile update included).
+    result: Receiver<(Trace, Duration)>,
     started: Instant,
 }
 
@@ -34,7 +35,8 @@ pub struct TraceWorker {
     running: Option<Running>,
     shown: Option<Arc<Trace>>,
     shown_revision: Option<u64>,
-    /// Wall time of the last finished trace.
+    /// How long the last finished trace took on its thread, compile update included (not
+    /// the wait until a frame picked it up).
     pub last_duration: Option<Duration>,
     /// The revision the user cancelled: not traced again until the next edit.
     cancelled_revision: Option<u64>,
@@ -53,8 +55,8 @@ impl TraceWorker {
     pub fn update(&mut self, scene: &Scene, revision: u64) -> bool {
         if let Some(r) = &self.running {
             match r.result.try_recv() {
-                Ok(t) => {
-                    self.last_duration = Some(r.started.elapsed());
+                Ok((t, took)) => {
+                    self.last_duration = Some(took);
                     self.shown_revision = Some(r.revision);
                     self.shown = Some(Arc::new(t));
                     self.n_finished += 1;
@@ -86,6 +88,7 @@ impl TraceWorker {
         let config = TraceConfig::from_scene(&scene);
         let slot = Arc::clone(&self.compiled);
         thread::spawn(move || {
+            let started = Instant::now();
             // A poisoned lock only means another trace thread panicked; the slot is still
             // a valid `Option`, so take it anyway.
             let kept = slot.lock().unwrap_or_else(std::sync::PoisonError::into_inner).take();
@@ -103,7 +106,7 @@ impl TraceWorker {
             }
             drop(guard);
             // The receiver is gone when the job went stale; nothing to do then.
-            let _ = tx.send(t);
+            let _ = tx.send((t, started.elapsed()));
         });
         self.n_started += 1;
         self.running = Some(Running { revision, control, result: rx, started: Instant::now() });
