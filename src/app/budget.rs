@@ -82,7 +82,7 @@ pub fn budget_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
 /// Escaped light by the surface it left through; clicking a row marks that edge on the
 /// canvas and selects its object.
 fn escaped_by_edge_ui(app: &mut EditorApp, ui: &mut egui::Ui, launched: f64) {
-    let Some(by) = app.escaped_by_edge().cloned() else { return };
+    let Some(by) = app.worker.escaped_by_edge().cloned() else { return };
     if by.shares.is_empty() {
         return;
     }

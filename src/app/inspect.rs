@@ -68,8 +68,6 @@ pub struct AnalysisState {
     pub highlight: Option<Surface>,
     /// The wavelength for escape cones and optical paths; `None` follows the trace's first.
     pub wavelength_nm: Option<f64>,
-    /// Escaped light by surface, for the trace with this finish count.
-    escaped: Option<(u64, EscapedByEdge)>,
 }
 
 impl AnalysisState {
@@ -92,14 +90,9 @@ impl EditorApp {
             .unwrap_or(550.0)
     }
 
-    /// Escaped light by surface for the shown trace (computed once per trace).
-    pub fn escaped_by_edge(&mut self) -> Option<&EscapedByEdge> {
-        let seq = self.worker.n_finished;
-        let t = self.worker.trace()?.clone();
-        if self.analysis.escaped.as_ref().is_none_or(|(s, _)| *s != seq) {
-            self.analysis.escaped = Some((seq, analysis::escaped_by_edge(&t)));
-        }
-        self.analysis.escaped.as_ref().map(|(_, e)| e)
+    /// Escaped light by surface for the shown trace (worked out on the trace's thread).
+    pub fn escaped_by_edge(&self) -> Option<&EscapedByEdge> {
+        self.worker.escaped_by_edge().map(AsRef::as_ref)
     }
 }
 

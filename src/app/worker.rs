@@ -15,6 +15,7 @@ use std::sync::{Arc, Mutex};
 use std::thread;
 use std::time::{Duration, Instant};
 
+use crate::analysis::{EscapedByEdge, escaped_by_edge};
 use crate::scene::Scene;
 use crate::trace::{Compiled, Control, Trace, TraceConfig, trace_compiled};
 
@@ -24,8 +25,9 @@ const STALE_AFTER: Duration = Duration::from_millis(200);
 struct Running {
     revision: u64,
     control: Arc<Control>,
-    /// The trace and how long it took on its thread (compile update included).
-    result: Receiver<(Trace, Duration)>,
+    /// The trace, its escaped light by edge, and how long both took on their thread
+    /// (compile update included).
+    result: Receiver<(Trace, EscapedByEdge, Duration)>,
     started: Instant,
 }
 
@@ -34,6 +36,8 @@ struct Running {
 pub struct TraceWorker {
     running: Option<Running>,
     shown: Option<Arc<Trace>>,
+    /// Escaped light by edge of the shown trace, worked out on the trace's thread.
+    shown_escaped: Option<Arc<EscapedByEdge>>,
     shown_revision: Option<u64>,
     /// How long the last finished trace took on its thread, compile update included (not
     /// the wait until a frame picked it up).
@@ -55,8 +59,9 @@ impl TraceWorker {
     pub fn update(&mut self, scene: &Scene, revision: u64) -> bool {
         if let Some(r) = &self.running {
             match r.result.try_recv() {
-                Ok((t, took)) => {
+                Ok((t, escaped, took)) => {
                     self.last_duration = Some(took);
+                    self.shown_escaped = Some(Arc::new(escaped));
                     self.shown_revision = Some(r.revision);
                     self.shown = Some(Arc::new(t));
                     self.n_finished += 1;
@@ -106,7 +111,8 @@ impl TraceWorker {
             }
             drop(guard);
             // The receiver is gone when the job went stale; nothing to do then.
-            let _ = tx.send((t, started.elapsed()));
+            let escaped = escaped_by_edge(&t);
+            let _ = tx.send((t, escaped, started.elapsed()));
         });
         self.n_started += 1;
         self.running = Some(Running { revision, control, result: rx, started: Instant::now() });
@@ -118,6 +124,11 @@ impl TraceWorker {
             r.control.cancel();
             self.cancelled_revision = Some(r.revision);
         }
+    }
+
+    /// Escaped light by edge of the last finished trace.
+    pub fn escaped_by_edge(&self) -> Option<&Arc<EscapedByEdge>> {
+        self.shown_escaped.as_ref()
     }
 
     /// The last finished trace, if any.
@@ -148,6 +159,7 @@ impl TraceWorker {
             r.control.cancel();
         }
         self.shown = None;
+        self.shown_escaped = None;
         self.shown_revision = None;
         self.cancelled_revision = None;
         // A new document: nothing of the old compiled scene can be reused.
