@@ -280,7 +280,11 @@ fn a_ray_grazing_a_mirror_reflects_once() {
     // From the origin along 35°; its left side faces (−sin, cos).
     sc.add(
         "mirror",
-        ObjectKind::Mirror(Mirror { path: Path::segment((0.0, 0.0), (120.0 * c, 120.0 * s)), reflectance: 1.0, one_sided: false }),
+        ObjectKind::Mirror(Mirror {
+            path: Path::segment((0.0, 0.0), (120.0 * c, 120.0 * s)),
+            reflectance: 1.0,
+            one_sided: false,
+        }),
     );
     let h = 1e-6;
     let (d_min, d_max) = (1e-8f64, 1e-6f64);
