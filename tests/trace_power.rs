@@ -464,6 +464,7 @@ fn a_source_of_zero_power_traces_without_nan_in_every_mode() {
     for mode in [TraceMode::Principal, TraceMode::Tree, TraceMode::MonteCarlo] {
         let t = run(&s, &config(&s, mode));
         assert_eq!(t.budget.launched, 0.0);
+        assert_eq!(t.budget.closure_error(), 0.0, "{mode:?}: nothing launched, nothing unaccounted");
         // Tree mode drops branches without power at the first split; the others go on.
         let reached = t.events.iter().any(|e| e.kind == EventKind::Refract);
         assert_eq!(reached, mode != TraceMode::Tree, "{mode:?}");

@@ -145,3 +145,28 @@ fn power_still_bouncing_at_the_event_limit_is_counted_as_trapped() {
         }
     }
 }
+
+#[test]
+fn the_budget_closure_is_the_unaccounted_share_of_the_launched_power() {
+    // Conservation of energy: the power launched equals the sum of the sinks, and the closure
+    // error is the share of it that no sink holds, |launched − Σ sinks| / launched (the
+    // definition in `Budget::closure_error`). Powers of two keep every sum exact, so a sink
+    // dropped, subtracted or multiplied in, or a wrong division, shows in the last digit.
+    let b = raydraft::trace::Budget {
+        launched: 2.0,
+        escaped: 0.5,
+        absorbed: 0.25,
+        trapped: 0.125,
+        below_threshold: 0.0625,
+        detected: vec![0.031_25, 0.015_625],
+        ..Default::default()
+    };
+    assert_eq!(b.detected_total(), 0.046_875);
+    assert_eq!(b.accounted(), 0.984_375);
+    assert_eq!(b.closure_error(), 0.507_812_5);
+    // More accounted than launched counts the same way.
+    let over = raydraft::trace::Budget { launched: 0.5, ..b.clone() };
+    assert_eq!(over.closure_error(), 0.968_75);
+    // Nothing launched: no share to speak of.
+    assert_eq!(raydraft::trace::Budget { launched: 0.0, ..b }.closure_error(), 0.0);
+}
