@@ -471,3 +471,27 @@ fn a_source_of_zero_power_traces_without_nan_in_every_mode() {
         assert!(t.events.iter().all(|e| e.after_s == 0.0 && e.after_p == 0.0), "{mode:?}");
     }
 }
+
+#[test]
+fn tree_mode_drops_a_transmitted_part_below_the_threshold() {
+    // A beam meets a lossless block of n = 1.5 at normal incidence: R = ((n − 1)/(n + 1))² =
+    // 0.04 and T = 0.96 (Hecht 2017 eq. 4.67, from memory). With a threshold of 0.97 both
+    // parts are below it, so the whole launched power is dropped at the first face and none
+    // escapes; a transmitted part that went on would leave through the far face.
+    let mut s = scene();
+    solid(&mut s, "block", rect(10.0, 0.0, 10.0, 40.0), 1.5);
+    beam(&mut s, (-5.0, 0.0), 4.0, 0.0, 20, Polarization::Unpolarized);
+    let mut c = config(&s, TraceMode::Tree);
+    c.settings.threshold = 0.97;
+    let b = run(&s, &c).budget;
+    assert!((b.below_threshold / b.launched - 1.0).abs() < 1e-12, "dropped {}", b.below_threshold);
+    assert_eq!(b.escaped, 0.0);
+    // Just under T, the transmitted part goes on and the reflected 0.04 is dropped; at the
+    // far face T² = 0.9216 and R·T = 0.0384 are both below 0.95, so nothing escapes either,
+    // but the first face's reflection is all that was dropped there.
+    c.settings.threshold = 0.95;
+    let t = run(&s, &c);
+    let kinds: Vec<EventKind> = t.events_of(&t.rays[0]).iter().map(|e| e.kind).collect();
+    assert!(kinds.len() >= 3, "the transmitted part reaches the far face: {kinds:?}");
+    assert_eq!(t.budget.escaped, 0.0);
+}
