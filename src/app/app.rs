@@ -938,17 +938,7 @@ impl EditorApp {
             egui::Modal::new(egui::Id::unique("confirm_discard")).show(ctx, |ui| {
                 ui.heading("Unsaved changes");
                 ui.label(format!("{} has changes that are not saved. Save them first?", self.doc.display_name()));
-                ui.horizontal(|ui| {
-                    if ui.button("Save").clicked() {
-                        choice = Some(0);
-                    }
-                    if ui.button("Discard changes").clicked() {
-                        choice = Some(1);
-                    }
-                    if ui.button("Cancel").clicked() {
-                        choice = Some(2);
-                    }
-                });
+                choice = button_row(ui, &["Save", "Discard changes", "Cancel"]);
             });
             match choice {
                 Some(0) => {
@@ -1027,17 +1017,7 @@ impl EditorApp {
                 conflict.path.display(),
                 conflict.change
             ));
-            ui.horizontal(|ui| {
-                if ui.button("Overwrite").clicked() {
-                    choice = Some(0);
-                }
-                if ui.button("Save as…").clicked() {
-                    choice = Some(1);
-                }
-                if ui.button("Cancel").clicked() {
-                    choice = Some(2);
-                }
-            });
+            choice = button_row(ui, &["Overwrite", "Save as…", "Cancel"]);
         });
         if choice.is_some() {
             self.dialogs.save_conflict = None;
@@ -1080,17 +1060,7 @@ impl EditorApp {
             if more > 0 {
                 ui.label(format!("{more} more recovery {} after this one.", if more == 1 { "copy" } else { "copies" }));
             }
-            ui.horizontal(|ui| {
-                if ui.button("Restore").clicked() {
-                    choice = Some(0);
-                }
-                if ui.button("Discard").clicked() {
-                    choice = Some(1);
-                }
-                if ui.button("Later").clicked() {
-                    choice = Some(2);
-                }
-            });
+            choice = button_row(ui, &["Restore", "Discard", "Later"]);
             ui.small(format!("The copy: {}", copy.file.display()));
         });
         match choice {
@@ -1124,4 +1094,18 @@ impl eframe::App for EditorApp {
     fn ui(&mut self, ui: &mut egui::Ui, _frame: &mut eframe::Frame) {
         self.frame_ui(ui);
     }
+}
+
+/// A row of buttons; the index of the one clicked this frame.
+fn button_row(ui: &mut egui::Ui, labels: &[&str]) -> Option<usize> {
+    ui.horizontal(|ui| {
+        let mut clicked = None;
+        for (k, label) in labels.iter().enumerate() {
+            if ui.button(*label).clicked() {
+                clicked = Some(k);
+            }
+        }
+        clicked
+    })
+    .inner
 }

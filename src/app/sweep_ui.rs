@@ -57,6 +57,9 @@ pub struct SweepState {
     pub result: Option<SweepResult>,
     pub error: Option<String>,
     running: Option<Running>,
+    /// The parameter's current value (or why it has none) for a scene revision and text:
+    /// reading it goes through the object's serialised form, too slow for every frame.
+    preview: Option<((u64, String), Result<f64, String>)>,
 }
 
 impl Default for SweepState {
@@ -71,6 +74,7 @@ impl Default for SweepState {
             result: None,
             error: None,
             running: None,
+            preview: None,
         }
     }
 }
@@ -188,6 +192,7 @@ pub fn sweep_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
         ui.ctx().request_repaint_after(std::time::Duration::from_millis(50));
     }
     let scene = &app.doc.scene;
+    let revision = app.doc.revision;
     let s = &mut app.sweep;
     ui.horizontal(|ui| {
         let l = ui.label("Parameter");
@@ -202,12 +207,18 @@ pub fn sweep_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
         }
     }
     if !s.param.trim().is_empty() {
-        match ParamPath::parse(scene, &s.param).and_then(|p| p.get(scene)) {
+        let key = (revision, s.param.clone());
+        if s.preview.as_ref().is_none_or(|(k, _)| *k != key) {
+            let value = ParamPath::parse(scene, &s.param).and_then(|p| p.get(scene)).map_err(|e| e.to_string());
+            s.preview = Some((key, value));
+        }
+        let Some((_, value)) = &s.preview else { return };
+        match value {
             Ok(v) => {
                 ui.label(egui::RichText::new(format!("now {v}")).small());
             }
             Err(e) => {
-                ui.label(egui::RichText::new(e.to_string()).small().color(egui::Color32::from_rgb(180, 60, 0)));
+                ui.label(egui::RichText::new(e).small().color(egui::Color32::from_rgb(180, 60, 0)));
             }
         }
     }
@@ -248,6 +259,11 @@ pub fn sweep_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
     if let Some(e) = &s.error {
         ui.label(egui::RichText::new(e).color(egui::Color32::from_rgb(180, 60, 0)));
     }
+    result_ui(ui, s, &mut app.status);
+}
+
+/// The finished sweep's curve and its CSV export.
+fn result_ui(ui: &mut egui::Ui, s: &mut SweepState, status: &mut String) {
     let Some(r) = s.result.clone() else { return };
     if r.partial {
         ui.label(egui::RichText::new("Stopped early: the curve covers the steps done.").small().weak());
@@ -267,7 +283,7 @@ pub fn sweep_ui(app: &mut EditorApp, ui: &mut egui::Ui) {
         ui.add(egui::TextEdit::singleline(&mut s.csv_path).desired_width(140.0)).labelled_by(l.id);
         if ui.button("Save CSV").clicked() {
             let path = PathBuf::from(s.csv_path.trim());
-            app.status = match write_text(&path, &r.csv()) {
+            *status = match write_text(&path, &r.csv()) {
                 Ok(()) => format!("Wrote {}", path.display()),
                 Err(e) => format!("Sweep CSV not written: {e}"),
             };
